@@ -1,0 +1,85 @@
+using System.Reflection;
+using ForceFit.Core.Problems;
+
+namespace ForceFit.Cli;
+
+/// <summary>Dispatches the verbs of the forcefit command; each verb calls one library method.</summary>
+public static class Commands
+{
+    private const string Usage = """
+        usage: forcefit <command> [options]
+
+        commands:
+          check <night-folder | run.toml>    read and validate the run files, confirm the data columns,
+                                              print the resolved settings per run
+          theory <night-folder | file.toml>  Lifshitz/PFA predictions for every [[theory]] as CSV
+              --from <length> --to <length> --count <n>   or   --at <length>,<length>,...
+              --out <file.csv>
+          help                                this text
+          version                             the tool version
+
+        exit status: 0 success, 1 wrong input (the message names the file and line or key),
+                     2 wrong usage, 3 an analysis that cannot be trusted
+        """;
+
+    /// <summary>Runs one command; returns the exit status.</summary>
+    /// <param name="args">Command-line arguments.</param>
+    /// <param name="output">Where results go.</param>
+    /// <param name="errors">Where messages go.</param>
+    public static int Run(string[] args, TextWriter output, TextWriter errors)
+    {
+        if (args.Length == 0)
+        {
+            errors.WriteLine(Usage);
+            return ExitCodes.UsageError;
+        }
+        try
+        {
+            return args[0] switch
+            {
+                "check" => CheckCommand.Run(args[1..], output, errors),
+                "theory" => TheoryCommand.Run(args[1..], output, errors),
+                "help" or "--help" or "-h" => Help(output),
+                "version" or "--version" => Version(output),
+                _ => UsageFailure(errors, $"unknown command '{args[0]}'"),
+            };
+        }
+        catch (UsageException e)
+        {
+            return UsageFailure(errors, e.Message);
+        }
+        catch (InputException e)
+        {
+            const int shown = 30;
+            foreach (Problem p in e.Problems.Take(shown)) errors.WriteLine("error: " + p);
+            if (e.Problems.Count > shown) errors.WriteLine($"... and {e.Problems.Count - shown} more problems");
+            return ExitCodes.InputError;
+        }
+    }
+
+    /// <summary>The informational version of the tool.</summary>
+    public static string ToolVersion =>
+        typeof(Commands).Assembly.GetCustomAttribute<AssemblyInformationalVersionAttribute>()?.InformationalVersion.Split('+')[0] ?? "0.0.0";
+
+    private static int Help(TextWriter output)
+    {
+        output.WriteLine(Usage);
+        return ExitCodes.Success;
+    }
+
+    private static int Version(TextWriter output)
+    {
+        output.WriteLine("forcefit " + ToolVersion);
+        return ExitCodes.Success;
+    }
+
+    private static int UsageFailure(TextWriter errors, string message)
+    {
+        errors.WriteLine("usage error: " + message);
+        errors.WriteLine("run 'forcefit help' for the commands and options");
+        return ExitCodes.UsageError;
+    }
+}
+
+/// <summary>Wrong use of the command line (exit status 2).</summary>
+public sealed class UsageException(string message) : Exception(message);
