@@ -33,9 +33,7 @@ public static class SpherePlateElectrostatics
         for (; ; n++)
         {
             double x = n * alpha.V;
-            double cothN = 1 / Math.Tanh(x), cschN = 1 / Math.Sinh(x), cschN2 = cschN * cschN;
-            // csch(x) derivatives in x: −csch coth, csch (coth^2 + csch^2), −csch coth (coth^2 + 5 csch^2).
-            Jet csch = new(cschN, -n * cschN * cothN, n * n * cschN * (cothN * cothN + cschN2), -n * n * n * cschN * cothN * (cothN * cothN + 5 * cschN2));
+            Jet csch = CschOfMultiple(n, alpha.V);
             Jet gN = CothMinusInverse(x);
             Jet nG = new(n * gN.V, (double)n * n * gN.D1, (double)n * n * n * gN.D2, (double)n * n * n * n * gN.D3);
             Jet term = csch * (gA - nG);
@@ -62,8 +60,7 @@ public static class SpherePlateElectrostatics
         for (int n = 1; ; n++)
         {
             double x = n * alpha.V;
-            double cothN = 1 / Math.Tanh(x), cschN = 1 / Math.Sinh(x), cschN2 = cschN * cschN;
-            Jet csch = new(cschN, -n * cschN * cothN, n * n * cschN * (cothN * cothN + cschN2), -n * n * n * cschN * cothN * (cothN * cothN + 5 * cschN2));
+            Jet csch = CschOfMultiple(n, alpha.V);
             sum += csch;
             if (n > 2 && Negligible(csch, sum)) break;
         }
@@ -133,6 +130,15 @@ public static class SpherePlateElectrostatics
             if (p >= 3) d3 += c * p * (p - 1) * (p - 2) * Math.Pow(x, p - 3);
         }
         return new Jet(v, d1, d2, d3);
+    }
+
+    /// <summary>csch(n alpha) as a jet in alpha; d/dx csch = −csch coth, then csch (coth^2 + csch^2), −csch coth (coth^2 + 5 csch^2).</summary>
+    private static Jet CschOfMultiple(int n, double alpha)
+    {
+        double x = n * alpha;
+        double coth = 1 / Math.Tanh(x), csch = 1 / Math.Sinh(x), csch2 = csch * csch;
+        double n2 = (double)n * n;
+        return new Jet(csch, -n * csch * coth, n2 * csch * (coth * coth + csch2), -n2 * n * csch * coth * (coth * coth + 5 * csch2));
     }
 
     private static double Square(double x) => x * x;

@@ -180,23 +180,25 @@ public sealed class LifshitzCalculator
             double x = expYl * Math.Exp(-t);
             if (x == 0) break;
             double y2 = y * y;
-            double k1 = Math.Sqrt(y2 + d1);
-            // Cancellation-free forms of r = (eps y − K)/(eps y + K) and (y − K)/(y + K), using K^2 = y^2 + (eps − 1) y_l^2.
-            double tm1 = (eps1 - 1) * ((eps1 + 1) * y2 - yl2) / Square(eps1 * y + k1);
-            double te1 = -d1 / Square(y + k1);
-            double tm2 = tm1, te2 = te1;
-            if (!same)
-            {
-                double k2 = Math.Sqrt(y2 + d2);
-                tm2 = (eps2 - 1) * ((eps2 + 1) * y2 - yl2) / Square(eps2 * y + k2);
-                te2 = -d2 / Square(y + k2);
-            }
+            (double tm1, double te1) = Reflection(eps1, d1, y, y2, yl2);
+            (double tm2, double te2) = same ? (tm1, te1) : Reflection(eps2, d2, y, y2, yl2);
             Accumulate(weights[j], y, tm1 * tm2 * x, te1 * te2 * x, ref e, ref p, ref p1, ref p2);
         }
         return new Sums(e, p, p1, p2);
     }
 
     private static double Square(double v) => v * v;
+
+    /// <summary>
+    /// r_TM = (eps y − K)/(eps y + K) and r_TE = (y − K)/(y + K) in y units (physics.md), K^2 = y^2 + d,
+    /// d = (eps − 1) y_l^2, in cancellation-free forms: (eps − 1)((eps + 1) y^2 − y_l^2)/(eps y + K)^2 and −d/(y + K)^2.
+    /// </summary>
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveInlining)]
+    private static (double Tm, double Te) Reflection(double eps, double d, double y, double y2, double yl2)
+    {
+        double k = Math.Sqrt(y2 + d);
+        return ((eps - 1) * ((eps + 1) * y2 - yl2) / Square(eps * y + k), -d / Square(y + k));
+    }
 
     /// <summary>Adds one node's contributions for both polarisations: u = R e^−y.</summary>
     private static void Accumulate(double w, double y, double uTm, double uTe, ref double e, ref double p, ref double p1, ref double p2)
@@ -297,11 +299,8 @@ public sealed class LifshitzCalculator
                 double eps1 = _plate.At(xi), eps2 = _sphere.At(xi);
                 double yl2 = yl * yl;
                 double d1 = (eps1 - 1) * yl2, d2 = (eps2 - 1) * yl2;
-                double k1 = Math.Sqrt(y2 + d1), k2 = Math.Sqrt(y2 + d2);
-                double tm1 = (eps1 - 1) * ((eps1 + 1) * y2 - yl2) / Square(eps1 * y + k1);
-                double tm2 = (eps2 - 1) * ((eps2 + 1) * y2 - yl2) / Square(eps2 * y + k2);
-                double te1 = -d1 / Square(y + k1);
-                double te2 = -d2 / Square(y + k2);
+                (double tm1, double te1) = Reflection(eps1, d1, y, y2, yl2);
+                (double tm2, double te2) = Reflection(eps2, d2, y, y2, yl2);
                 if (double.IsNaN(tm1 * tm2))
                 {
                     tm1 = tm2 = 1; // eps = inf at xi = 0 (only reached through rounding): the conductor limit
