@@ -25,15 +25,24 @@ public static class SpherePlateElectrostatics
     {
         Check(gap, radius);
         Jet alpha = Alpha(gap, radius);
+        (Jet sum, int n) = SeriesInAlpha(alpha.V);
+        Jet inGap = ChainToGap(sum, alpha);
+        double k = 2 * Math.PI * Eps0;
+        return new ElectrostaticResult(k * inGap.V, k * inGap.D1, k * inGap.D2, k * inGap.D3, n);
+    }
+
+    /// <summary>S(alpha) = Sum_{n>=1} csch(n alpha)(coth alpha − n coth(n alpha)) and its alpha-derivatives, with the number of terms.</summary>
+    public static (Jet Sum, int Terms) SeriesInAlpha(double alpha)
+    {
         // coth(alpha) − n coth(n alpha) = g(alpha) − n g(n alpha) with g(x) = coth x − 1/x: the 1/alpha parts cancel
         // exactly, which keeps the third derivative accurate near contact (a/R ~ 1e-5).
-        Jet gA = CothMinusInverse(alpha.V);
+        Jet gA = CothMinusInverse(alpha);
         Jet sum = default;
         int n = 1;
         for (; ; n++)
         {
-            double x = n * alpha.V;
-            Jet csch = CschOfMultiple(n, alpha.V);
+            double x = n * alpha;
+            Jet csch = CschOfMultiple(n, alpha);
             Jet gN = CothMinusInverse(x);
             Jet nG = new(n * gN.V, (double)n * n * gN.D1, (double)n * n * n * gN.D2, (double)n * n * n * n * gN.D3);
             Jet term = csch * (gA - nG);
@@ -41,9 +50,7 @@ public static class SpherePlateElectrostatics
             if (n > 2 && Negligible(term, sum)) break;
             if (n > 50_000_000) throw new InvalidOperationException("sphere-plate series did not converge");
         }
-        Jet inGap = ChainToGap(sum, alpha);
-        double k = 2 * Math.PI * Eps0;
-        return new ElectrostaticResult(k * inGap.V, k * inGap.D1, k * inGap.D2, k * inGap.D3, n);
+        return (sum, n);
     }
 
     /// <summary>
