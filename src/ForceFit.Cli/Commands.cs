@@ -12,6 +12,9 @@ public static class Commands
         commands:
           check <night-folder | run.toml>    read and validate the run files, confirm the data columns,
                                               print the resolved settings per run
+          theory <night-folder | file.toml>  Lifshitz/PFA predictions for every [[theory]] as CSV:
+              --from <length> --to <length> --count <n> [--spacing linear|log]
+              or --at <length>,<length>,...;  --out <file.csv> (standard output without it)
           help                                this text
           version                             the tool version
 
@@ -35,6 +38,7 @@ public static class Commands
             return args[0] switch
             {
                 "check" => CheckCommand.Run(args[1..], output, errors),
+                "theory" => TheoryCommand.Run(args[1..], output, errors),
                 "help" or "--help" or "-h" => Help(output),
                 "version" or "--version" => Version(output),
                 _ => UsageFailure(errors, $"unknown command '{args[0]}'"),

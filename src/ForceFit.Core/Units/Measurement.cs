@@ -22,11 +22,44 @@ public readonly record struct Measurement(double Value, double Sigma, Dimension 
     /// <param name="unit">A unit of this dimension (or an energy unit for an angular frequency).</param>
     public string Format(Unit unit)
     {
-        double factor = unit.ToSi * QuantityParser.ConversionFactor(unit.Dimension, Dimension)
+        double factor = QuantityParser.ConversionFactor(unit.Dimension, Dimension)
             ?? throw new ArgumentException($"unit '{unit.Symbol}' cannot express {Dimension.Describe()}", nameof(unit));
-        string value = (Value / factor).ToString("R", CultureInfo.InvariantCulture);
-        string text = Sigma == 0 ? value : value + " ± " + (Sigma / factor).ToString("R", CultureInfo.InvariantCulture);
+        string value = RoundTrip(Value / factor, unit);
+        string text = Sigma == 0 ? value : value + " ± " + RoundTrip(Sigma / factor, unit);
         return unit.Symbol.Length == 0 ? text : text + " " + unit.Symbol;
+    }
+
+    /// <summary>
+    /// The shortest round-trip decimal of an SI value, written in a unit: for units that are 10^n of SI the decimal
+    /// exponent of the text is shifted (exact, so "148.7 um" formats back as 148.7); otherwise the value is divided.
+    /// </summary>
+    private static string RoundTrip(double si, Unit unit)
+    {
+        if (unit.DecimalExponent is not int shift || shift == 0 || si == 0 || !double.IsFinite(si))
+            return unit.FromSiValue(si).ToString("R", CultureInfo.InvariantCulture);
+        string r = si.ToString("R", CultureInfo.InvariantCulture);
+        bool negative = r[0] == '-';
+        if (negative) r = r[1..];
+        int exponent = 0;
+        int e = r.IndexOfAny(['E', 'e']);
+        if (e >= 0)
+        {
+            exponent = int.Parse(r[(e + 1)..], NumberStyles.AllowLeadingSign, CultureInfo.InvariantCulture);
+            r = r[..e];
+        }
+        int dot = r.IndexOf('.');
+        string digits = dot >= 0 ? r.Remove(dot, 1) : r;
+        int k = dot >= 0 ? exponent - (r.Length - dot - 1) : exponent; // value = digits x 10^k
+        digits = digits.TrimStart('0');
+        while (digits.EndsWith('0')) { digits = digits[..^1]; k++; }
+        k -= shift;
+        string text;
+        int n = digits.Length;
+        if (k >= 0 && n + k <= 21) text = digits + new string('0', k);
+        else if (k < 0 && -k < n) text = digits[..(n + k)] + "." + digits[(n + k)..];
+        else if (k < 0 && -k - n < 6) text = "0." + new string('0', -k - n) + digits;
+        else text = digits[0] + (n > 1 ? "." + digits[1..] : "") + "E" + (k + n - 1).ToString(CultureInfo.InvariantCulture);
+        return negative ? "-" + text : text;
     }
 
     /// <summary>Formats in the unit with this symbol.</summary>
@@ -38,10 +71,10 @@ public readonly record struct Measurement(double Value, double Sigma, Dimension 
     public string Display(string unitSymbol, int digits = 4)
     {
         Unit unit = unitSymbol.Length == 0 ? UnitTable.Dimensionless : UnitTable.Find(unitSymbol)!;
-        double factor = unit.ToSi * (QuantityParser.ConversionFactor(unit.Dimension, Dimension) ?? double.NaN);
+        double factor = QuantityParser.ConversionFactor(unit.Dimension, Dimension) ?? double.NaN;
         string f = "G" + digits.ToString(CultureInfo.InvariantCulture);
-        string value = (Value / factor).ToString(f, CultureInfo.InvariantCulture);
-        string text = Sigma == 0 ? value : value + " ± " + (Sigma / factor).ToString("G2", CultureInfo.InvariantCulture);
+        string value = unit.FromSiValue(Value / factor).ToString(f, CultureInfo.InvariantCulture);
+        string text = Sigma == 0 ? value : value + " ± " + unit.FromSiValue(Sigma / factor).ToString("G2", CultureInfo.InvariantCulture);
         return unit.Symbol.Length == 0 ? text : text + " " + unit.Symbol;
     }
 }

@@ -97,9 +97,22 @@ public static partial class QuantityParser
                 : $"'{text}' is {unit.Dimension.Describe()}, but {hint}";
             return false;
         }
-        double scale = unit.ToSi * factor.Value;
-        result = new Measurement(value * scale, sigma * scale, expected);
+        result = new Measurement(ToSi(match.Groups["value"].Value, value, unit) * factor.Value,
+            match.Groups["sigma"].Success ? ToSi(match.Groups["sigma"].Value, sigma, unit) * factor.Value : 0.0, expected);
         return true;
+    }
+
+    /// <summary>
+    /// A decimal number in a unit that is a power of ten of SI is converted by shifting its decimal exponent and
+    /// parsing once, which rounds correctly ("148.7 um" gives the double nearest 1.487e-4); other units multiply.
+    /// </summary>
+    private static double ToSi(string digits, double parsed, Unit unit)
+    {
+        if (unit.DecimalExponent is not int shift || shift == 0) return unit.ToSiValue(parsed);
+        int e = digits.IndexOfAny(['e', 'E']);
+        string mantissa = e < 0 ? digits : digits[..e];
+        int exponent = e < 0 ? 0 : int.Parse(digits[(e + 1)..], NumberStyles.AllowLeadingSign, CultureInfo.InvariantCulture);
+        return double.Parse(mantissa + "e" + (exponent + shift).ToString(CultureInfo.InvariantCulture), NumberStyles.Float, CultureInfo.InvariantCulture);
     }
 
     /// <summary>Parses a quantity or throws an <see cref="InputException"/> naming the key and the file.</summary>

@@ -8,6 +8,16 @@ namespace ForceFit.Core.Units;
 /// <param name="ToSi">Multiply a value in this unit by this to get SI.</param>
 public sealed record Unit(string Symbol, Dimension Dimension, double ToSi)
 {
+    /// <summary>n when the unit is exactly 10^n times the SI unit (nm: −9), else null.</summary>
+    public int? DecimalExponent { get; } = ToSi > 0 && Math.Abs(Math.Log10(ToSi) - Math.Round(Math.Log10(ToSi))) < 1e-12
+        ? (int)Math.Round(Math.Log10(ToSi)) : null;
+
+    /// <summary>A value in this unit converted to SI.</summary>
+    public double ToSiValue(double value) => DecimalExponent is int n && n < 0 ? value / Math.Pow(10, -n) : value * ToSi;
+
+    /// <summary>An SI value expressed in this unit.</summary>
+    public double FromSiValue(double si) => DecimalExponent is int n && n < 0 ? si * Math.Pow(10, -n) : si / ToSi;
+
     /// <summary>The SI unit of each dimension, used when formatting without a chosen unit.</summary>
     public static Unit SiOf(Dimension dimension) => dimension switch
     {

@@ -37,6 +37,12 @@ public sealed class MeasurementFormatTests
                 var m = new Measurement(random.NextDouble() * 1e3 * unit.ToSi, random.NextDouble() * unit.ToSi, d);
                 string text = m.Format(unit);
                 Measurement back = QuantityParser.Parse(text, d, "k", "f");
+                if (unit.DecimalExponent is not null)
+                {
+                    // Units that are powers of ten of SI round-trip exactly (decimal exponent shifted in the text).
+                    Assert.That(back, Is.EqualTo(m), text);
+                    continue;
+                }
                 Assert.That(back.Value, Is.EqualTo(m.Value).Within(4e-16 * Math.Abs(m.Value)), text);
                 Assert.That(back.Sigma, Is.EqualTo(m.Sigma).Within(4e-16 * Math.Abs(m.Sigma)), text);
             }
@@ -49,5 +55,23 @@ public sealed class MeasurementFormatTests
         Measurement m = QuantityParser.Parse("148.7 ± 0.2 um", Dimension.Length, "k", "f");
         Assert.That(m.Format("um"), Is.EqualTo("148.7 ± 0.2 um"));
         Assert.That(QuantityParser.Parse("9 eV", Dimension.AngularFrequency, "k", "f").Format("eV"), Is.EqualTo("9 eV"));
+    }
+}
+
+/// <summary>Decimal inputs in sub-units land on the double nearest the decimal SI value.</summary>
+public sealed class DecimalConversionTests
+{
+    [TestCase("100 nm", "1E-07")]
+    [TestCase("300 nm", "3E-07")]
+    [TestCase("148.7 um", "0.0001487")]
+    [TestCase("2.5 mm", "0.0025")]
+    [TestCase("20 mV", "0.02")]
+    [TestCase("0.3 ms", "0.0003")]
+    public void Sub_units_convert_with_correct_rounding(string text, string si)
+    {
+        // The expected value is the decimal number parsed directly as SI: IEEE 754 correct rounding of both.
+        Dimension d = text.EndsWith("mV") ? Dimension.Voltage : text.EndsWith("ms") ? Dimension.Time : Dimension.Length;
+        double expected = double.Parse(si, System.Globalization.CultureInfo.InvariantCulture);
+        Assert.That(QuantityParser.Parse(text, d, "k", "f").Value, Is.EqualTo(expected));
     }
 }
