@@ -5,7 +5,13 @@ using ForceFit.Theory.Permittivity;
 
 // Lifshitz hot path (issue targets): 500 separations from 100 nm to 2 um, Drude and plasma at 300 K, pressure
 // and free energy at full accuracy: at most 0.1 s on 2 cores; one separation at most 0.2 ms; peak memory < 100 MB.
-// Run by hand: dotnet run -c Release --project bench/ForceFit.Bench
+// Run by hand: dotnet run -c Release --project bench/ForceFit.Bench            (quick figures and peak memory)
+//              dotnet run -c Release --project bench/ForceFit.Bench -- --bdn   (BenchmarkDotNet, stable timings)
+if (args.Contains("--bdn"))
+{
+    BenchmarkDotNet.Running.BenchmarkRunner.Run<ForceFit.Bench.LifshitzBenchmarks>(args: args.Where(a => a != "--bdn").ToArray());
+    return;
+}
 double eV = Codata2018.ElectronVoltAngularFrequency.Value;
 var drude = new DrudeModel(9.0 * eV, 0.035 * eV);
 var plasma = new PlasmaModel(9.0 * eV);

@@ -56,6 +56,8 @@ public sealed class LifshitzCalculator
     private readonly LifshitzOptions _options;
     private readonly double _xi1;
     private readonly bool _sameMaterial;
+    private readonly QuadratureRule[] _rules;
+    private readonly QuadratureRule[] _checkRules;
     private readonly Lock _growLock = new();
     private double[] _eps1 = [double.NaN];
     private double[] _eps2 = [double.NaN];
@@ -70,6 +72,9 @@ public sealed class LifshitzCalculator
         _options = options ?? new LifshitzOptions();
         _xi1 = 2 * Math.PI * KB * temperature / Hbar; // first Matsubara frequency (physics.md)
         _sameMaterial = Equals(plate, sphere);
+        int[] nodes = TierNodes(_options.LaguerreNodes);
+        _rules = nodes.Select(GaussRules.LaguerreUnweighted).ToArray();
+        _checkRules = nodes.Select(n => GaussRules.LaguerreUnweighted(n * 3 / 2)).ToArray();
     }
 
     /// <summary>The temperature in K.</summary>
@@ -90,35 +95,34 @@ public sealed class LifshitzCalculator
         Sums zero = ZeroFrequencyTerm(a, out int evaluations, out Sums zeroError);
         var total = zero.Scale(0.5);
         var error = zeroError.Scale(0.5);
-        Sums magnitude = default; // sum of |terms| for l >= 2, to which the quadrature error applies
+        // Each node count ("tier") gets its own quadrature check, on the first (hardest) term that uses it, against
+        // a rule with 50% more nodes; that relative error is applied to the sum of |terms| of the tier.
+        Span<Sums> tierError = stackalloc Sums[TierCount];
+        Span<Sums> tierMagnitude = stackalloc Sums[TierCount];
+        Span<bool> tierChecked = stackalloc bool[TierCount];
         Sums previous = default;
-        Sums quadratureRelative = default;
         int l = 1;
         for (; ; l++)
         {
             (double eps1, double eps2) = Permittivities(l);
             double yl = l * y1;
-            // For small y_l the integrand has a near-singularity (1 − R e^-y close to 0) just left of t = 0:
-            // the lowest terms get more nodes.
-            int nodes = yl >= 4 ? _options.LaguerreNodes / 2 : yl >= 2 ? _options.LaguerreNodes * 3 / 4
-                : yl >= 0.5 ? _options.LaguerreNodes : yl >= 0.1 ? _options.LaguerreNodes * 5 / 3 : _options.LaguerreNodes * 5 / 2;
-            QuadratureRule rule = GaussRules.LaguerreUnweighted(nodes);
+            int tier = Tier(yl);
+            QuadratureRule rule = _rules[tier];
             Sums term = MatsubaraTerm(yl, eps1, eps2, _sameMaterial, rule);
             evaluations += rule.Nodes.Length;
-            if (l == 1)
+            if (!tierChecked[tier])
             {
-                // Quadrature error of the wave-vector rule, judged on the hardest (lowest non-zero) term
-                // against a rule with 50% more nodes, and applied relatively to all l >= 1.
-                QuadratureRule finer = GaussRules.LaguerreUnweighted(nodes * 3 / 2);
+                QuadratureRule finer = _checkRules[tier];
                 Sums check = MatsubaraTerm(yl, eps1, eps2, _sameMaterial, finer);
                 evaluations += finer.Nodes.Length;
-                quadratureRelative = check.Minus(term).Abs().DivideBy(term.Abs());
+                tierChecked[tier] = true;
+                tierError[tier] = check.Minus(term).Abs().DivideBy(term.Abs());
                 error = error.Plus(check.Minus(term).Abs());
-                term = check;
+                term = check; // the better value; its own error is covered by the difference just added
             }
             else
             {
-                magnitude = magnitude.Plus(term.Abs());
+                tierMagnitude[tier] = tierMagnitude[tier].Plus(term.Abs());
             }
             total = total.Plus(term);
             if (l >= 2 && term.Abs().AllBelow(previous.Abs()))
@@ -135,10 +139,18 @@ public sealed class LifshitzCalculator
             previous = term;
             if (l > 5_000_000) throw new InvalidOperationException("Matsubara sum did not converge");
         }
-        error = error.Plus(magnitude.Times(quadratureRelative));
+        for (int t = 0; t < TierCount; t++) error = error.Plus(tierMagnitude[t].Times(tierError[t]));
         double prefactor = KB * _temperature / (8 * Math.PI);
         return Finish(a, total.Scale(prefactor), error.Scale(prefactor), l, evaluations);
     }
+
+    private const int TierCount = 5;
+
+    // For small y_l the integrand has a near-singularity (1 − R e^-y close to 0) just left of t = 0: the lowest
+    // terms get more nodes. Tiers: y_l >= 4, 2–4, 0.5–2, 0.1–0.5, below 0.1.
+    private static int Tier(double yl) => yl >= 4 ? 0 : yl >= 2 ? 1 : yl >= 0.5 ? 2 : yl >= 0.1 ? 3 : 4;
+
+    private static int[] TierNodes(int n) => [n / 2, n * 3 / 4, n, n * 5 / 3, n * 5 / 2];
 
     private (double, double) Permittivities(int l)
     {
@@ -166,6 +178,8 @@ public sealed class LifshitzCalculator
     }
 
     /// <summary>One Matsubara term: the four wave-vector integrals over y from y_l, by Gauss–Laguerre in t = y − y_l.</summary>
+    // Fully optimised from the first call: a short command-line run would otherwise spend its time in unoptimised code.
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
     private static Sums MatsubaraTerm(double yl, double eps1, double eps2, bool same, QuadratureRule rule)
     {
         double expYl = Math.Exp(-yl);
