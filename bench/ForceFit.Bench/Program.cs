@@ -7,6 +7,12 @@ using ForceFit.Theory.Permittivity;
 // and free energy at full accuracy: at most 0.1 s on 2 cores; one separation at most 0.2 ms; peak memory < 100 MB.
 // Run by hand: dotnet run -c Release --project bench/ForceFit.Bench            (quick figures and peak memory)
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --bdn   (BenchmarkDotNet, stable timings)
+//              dotnet run -c Release --project bench/ForceFit.Bench -- --simulate   (10 million samples as CSV)
+if (args.Contains("--simulate"))
+{
+    ForceFit.Bench.SimulationBenchmark.Run();
+    return;
+}
 if (args.Contains("--bdn"))
 {
     BenchmarkDotNet.Running.BenchmarkRunner.Run<ForceFit.Bench.LifshitzBenchmarks>(args: args.Where(a => a != "--bdn").ToArray());

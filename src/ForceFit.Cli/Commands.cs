@@ -6,7 +6,9 @@ namespace ForceFit.Cli;
 /// <summary>Dispatches the verbs of the forcefit command; each verb calls one library method.</summary>
 public static class Commands
 {
-    private const string Usage = """
+    private static readonly string Usage = UsageText.Replace("@simulate@", SimulateCommand.Help.TrimEnd('\n'), StringComparison.Ordinal);
+
+    private const string UsageText = """
         usage: forcefit <command> [options]
 
         commands:
@@ -15,6 +17,7 @@ public static class Commands
           theory <night-folder | file.toml>  Lifshitz/PFA predictions for every [[theory]] as CSV:
               --from <length> --to <length> --count <n> [--spacing linear|log]
               or --at <length>,<length>,...;  --out <file.csv> (standard output without it)
+        @simulate@
           help                                this text
           version                             the tool version
 
@@ -39,6 +42,7 @@ public static class Commands
             {
                 "check" => CheckCommand.Run(args[1..], output, errors),
                 "theory" => TheoryCommand.Run(args[1..], output, errors),
+                "simulate" => SimulateCommand.Run(args[1..], output, errors),
                 "help" or "--help" or "-h" => Help(output),
                 "version" or "--version" => Version(output),
                 _ => UsageFailure(errors, $"unknown command '{args[0]}'"),

@@ -1,0 +1,188 @@
+using System.Text;
+using System.Text.Json;
+using ForceFit.Core.Constants;
+using ForceFit.Core.Problems;
+using ForceFit.Theory.Geometry;
+using ForceFit.Theory.Lifshitz;
+using ForceFit.Theory.Permittivity;
+
+namespace ForceFit.Simulation;
+
+/// <summary>What to simulate and where to write it.</summary>
+/// <param name="OutputFolder">The night folder to create (must not exist, or be empty).</param>
+/// <param name="Scenario">The physics and imperfections.</param>
+/// <param name="Seed">Seed of every random choice: the same seed gives the same bytes.</param>
+/// <param name="Hdf5">Write .h5 data files instead of CSV.</param>
+/// <param name="Columns">Column names and units: time, piezo, bias, signal.</param>
+public sealed record SimulationRequest(string OutputFolder, Scenario Scenario, ulong Seed, bool Hdf5, IReadOnlyList<OutputColumn> Columns)
+{
+    /// <summary>The default columns for a mode: t [s], zp [nm], Ub [mV], and f_pll [Hz] or defl [V].</summary>
+    public static IReadOnlyList<OutputColumn> DefaultColumns(SimulatedMode mode, bool hdf5)
+    {
+        string prefix = hdf5 ? "raw/" : "";
+        return
+        [
+            new OutputColumn(prefix + "t", "s", 1e-6),
+            new OutputColumn(prefix + "zp", "nm", 1e-13),
+            new OutputColumn(prefix + "Ub", "mV", 1e-7),
+            mode == SimulatedMode.FrequencyShift ? new OutputColumn(prefix + "f_pll", "Hz", 1e-7) : new OutputColumn(prefix + "defl", "V", 1e-8),
+        ];
+    }
+}
+
+/// <summary>Everything that was injected, as written to the truth file.</summary>
+/// <param name="Seed">The seed.</param>
+/// <param name="Scenario">All scenario parameters.</param>
+/// <param name="Runs">Per-run truth and step truths.</param>
+public sealed record NightTruth(ulong Seed, Scenario Scenario, IReadOnlyList<RunTruthWithSteps> Runs);
+
+/// <summary>A run's truth and its steps.</summary>
+/// <param name="Run">The run's parameters.</param>
+/// <param name="Steps">Each step's (or ramp segment's) truth.</param>
+public sealed record RunTruthWithSteps(RunTruth Run, IReadOnlyList<StepTruth> Steps);
+
+/// <summary>Writes a simulated night in the run-file format, and its truth beside the night folder.</summary>
+public static class NightSimulator
+{
+    /// <summary>The truth file of a night folder: "&lt;folder&gt;.truth.json" in the folder's parent.</summary>
+    public static string TruthPath(string nightFolder)
+    {
+        string full = Path.GetFullPath(nightFolder).TrimEnd(Path.DirectorySeparatorChar);
+        return Path.Combine(Path.GetDirectoryName(full)!, Path.GetFileName(full) + ".truth.json");
+    }
+
+    /// <summary>Simulates and writes the night; returns the truth that was written.</summary>
+    public static NightTruth Simulate(SimulationRequest request)
+    {
+        Scenario s = request.Scenario;
+        string folder = request.OutputFolder;
+        if (File.Exists(folder)) throw new InputException(new Problem(folder, null, "the output folder is a file"));
+        if (Directory.Exists(folder) && Directory.EnumerateFileSystemEntries(folder).Any())
+            throw new InputException(new Problem(folder, null, "the output folder is not empty; choose a new folder"));
+        Directory.CreateDirectory(folder);
+
+        var random = new RandomSource(request.Seed);
+        double ev = Codata2018.ElectronVoltAngularFrequency.Value;
+        IPermittivity gold = s.TruthTheory.Equals("plasma", StringComparison.OrdinalIgnoreCase)
+            ? new PlasmaModel(s.PlasmaFrequencyEv * ev)
+            : new DrudeModel(s.PlasmaFrequencyEv * ev, s.DampingEv * ev);
+        var geometry = new SpherePlateGeometry(s.Radius, 0, 0, s.SphereRoughness * s.SphereRoughness + s.PlateRoughness * s.PlateRoughness);
+        var casimir = new LifshitzCalculator(gold, gold, s.Temperature);
+        double low = Math.Max(10e-9, s.NearestGap * 0.5 - s.Amplitude * 2);
+        var forces = new ForceModel(casimir, geometry, low, s.EffectiveReferenceGap * 1.2 + 200e-9);
+
+        var runs = new List<RunTruthWithSteps>();
+        for (int r = 0; r < s.Runs; r++)
+        {
+            RandomSource runRandom = random.Fork((ulong)(r + 1));
+            string name = $"run-{r + 1:D2}";
+            // Each run re-approaches: z0, V0 and f0 differ a little from run to run.
+            var truth = new RunTruth(
+                name,
+                s.GapOffset + 4e-9 * runRandom.NextGaussian(),
+                s.Imperfections.PiezoScaleError ? s.PiezoScale : 1.0,
+                s.EffectiveSpringConstant,
+                s.FreeFrequency + 0.05 * runRandom.NextGaussian(),
+                s.DeflectionSensitivity,
+                s.DeflectionFree + 2e-3 * runRandom.NextGaussian(),
+                s.ResidualPotential + 2e-3 * runRandom.NextGaussian(),
+                s.ResidualPotentialGapSlope,
+                s.ResidualPotentialTimeSlope,
+                s.NearestGap,
+                s.GapDriftRate,
+                s.Mode == SimulatedMode.FrequencyShift ? s.Amplitude : 0);
+            double biasCentre = 0.015; // the operator's estimate of V0
+            IReadOnlyList<Segment> schedule = s.Protocol == SimulatedProtocol.VoltageSteps
+                ? Schedules.VoltageSteps(s, s.GapOffset, biasCentre, r, runRandom.Fork(7))
+                : Schedules.DistanceRamps(s, s.GapOffset, biasCentre, runRandom.Fork(7));
+            var generator = new RunGenerator(s, truth, forces, runRandom.Fork(9));
+            string dataName = name + (request.Hdf5 ? ".h5" : ".csv");
+            string dataPath = Path.Combine(folder, dataName);
+            IReadOnlyList<StepTruth> steps;
+            if (request.Hdf5)
+            {
+                var writer = new Hdf5SampleWriter(request.Columns);
+                steps = generator.Generate(schedule, writer);
+                writer.Write(dataPath);
+            }
+            else
+            {
+                using var writer = new CsvSampleWriter(dataPath, request.Columns, $"simulated by forcefit simulate, seed {request.Seed}, {name}");
+                steps = generator.Generate(schedule, writer);
+            }
+            File.WriteAllText(Path.Combine(folder, name + ".toml"), RunToml(s, dataName, request.Columns));
+            runs.Add(new RunTruthWithSteps(truth, steps));
+        }
+        File.WriteAllText(Path.Combine(folder, "night.toml"), NightToml(s, request.Seed));
+        var night = new NightTruth(request.Seed, s, runs);
+        File.WriteAllText(TruthPath(folder), JsonSerializer.Serialize(night, JsonOptions));
+        return night;
+    }
+
+    /// <summary>Options of the truth file: indented, enums as words, non-finite numbers allowed.</summary>
+    public static JsonSerializerOptions JsonOptions { get; } = new()
+    {
+        WriteIndented = true,
+        NumberHandling = System.Text.Json.Serialization.JsonNumberHandling.AllowNamedFloatingPointLiterals,
+        Converters = { new System.Text.Json.Serialization.JsonStringEnumConverter() },
+    };
+
+    /// <summary>Reads a truth file back.</summary>
+    public static NightTruth ReadTruth(string path) =>
+        JsonSerializer.Deserialize<NightTruth>(File.ReadAllText(path), JsonOptions) ?? throw new InvalidDataException($"{path}: empty truth file");
+
+    private static string NightToml(Scenario s, ulong seed)
+    {
+        bool frequency = s.Mode == SimulatedMode.FrequencyShift;
+        var w = new StringBuilder();
+        w.Append($"# Simulated night (forcefit simulate, seed {seed}). Invented scenario: the Tarn Valley bench.\n");
+        w.Append($"# The injected truth is in the .truth.json file beside this folder.\n");
+        w.Append($"title = \"Tarn Valley bench, simulated {(frequency ? "frequency-shift" : "deflection")} night, seed {seed}\"\n\n");
+        w.Append("[instrument]\n");
+        w.Append($"mode = \"{(frequency ? "frequency-shift" : "deflection")}\"\n");
+        w.Append("spring_constant = \"auto\"\n");
+        if (frequency)
+        {
+            w.Append("free_frequency = \"auto\"\n");
+            w.Append($"amplitude = \"{Text.Q(s.Amplitude, 0.1 * s.Amplitude, "nm")}\"\n");
+        }
+        else
+        {
+            w.Append("deflection_sensitivity = \"auto\"\n");
+            w.Append("deflection_free = \"auto\"\n");
+        }
+        double referenceBeyond = s.Protocol == SimulatedProtocol.VoltageSteps ? 0.8 * s.EffectiveReferenceGap : 0.8 * s.EffectiveReferenceGap;
+        w.Append($"reference_beyond = \"{Text.Q(Math.Round(referenceBeyond * 1e9) * 1e-9 - s.GapOffset, "nm")}\"\n\n");
+        w.Append($"[sphere]\nradius = \"{Text.Q(s.Radius, 0.2e-6, "um")}\"\n\n");
+        w.Append("[piezo]\nscale = \"1.000 ± 0.005\"\ndirection = \"away\"\n\n");
+        w.Append("[surfaces]\n");
+        w.Append($"temperature = \"{Text.Q(s.Temperature, 0.5, "K")}\"\n");
+        w.Append($"sphere_roughness = \"{Text.Q(s.SphereRoughness, "nm")}\"\n");
+        w.Append($"plate_roughness = \"{Text.Q(s.PlateRoughness, "nm")}\"\n");
+        w.Append("pfa_correction = \"0.0 ± 0.5\"\n\n");
+        w.Append($"[materials.gold-drude]\nmodel = \"drude\"\nplasma_frequency = \"{Text.N(s.PlasmaFrequencyEv)} ± 0.05 eV\"\ndamping = \"{Text.N(s.DampingEv)} ± 0.005 eV\"\n\n");
+        w.Append($"[materials.gold-plasma]\nmodel = \"plasma\"\nplasma_frequency = \"{Text.N(s.PlasmaFrequencyEv)} ± 0.05 eV\"\n\n");
+        w.Append("[[theory]]\nname = \"Drude\"\nsphere = \"gold-drude\"\nplate = \"gold-drude\"\n\n");
+        w.Append("[[theory]]\nname = \"plasma\"\nsphere = \"gold-plasma\"\nplate = \"gold-plasma\"\n");
+        return w.ToString();
+    }
+
+    private static string RunToml(Scenario s, string dataName, IReadOnlyList<OutputColumn> c)
+    {
+        bool frequency = s.Mode == SimulatedMode.FrequencyShift;
+        var w = new StringBuilder();
+        w.Append($"data = \"{dataName}\"\n");
+        if (s.Protocol == SimulatedProtocol.VoltageSteps)
+            w.Append($"protocol = \"voltage-steps\"\nsettle = \"{Text.Q(s.Settle, "s")}\"\n");
+        else
+            w.Append($"protocol = \"distance-ramps\"\nbin_width = \"{Text.Q(s.BinWidth, "nm")}\"\n");
+        w.Append("\n[columns]\n");
+        w.Append($"time = {{ name = \"{c[0].Name}\", unit = \"{c[0].Unit}\" }}\n");
+        w.Append($"piezo = {{ name = \"{c[1].Name}\", unit = \"{c[1].Unit}\" }}\n");
+        w.Append($"bias = {{ name = \"{c[2].Name}\", unit = \"{c[2].Unit}\" }}\n");
+        w.Append(frequency
+            ? $"frequency = {{ name = \"{c[3].Name}\", unit = \"{c[3].Unit}\" }}\n"
+            : $"deflection = {{ name = \"{c[3].Name}\", unit = \"{(c[3].Unit.Length == 0 ? "1" : c[3].Unit)}\" }}\n");
+        return w.ToString();
+    }
+}
