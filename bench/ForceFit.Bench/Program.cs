@@ -8,6 +8,12 @@ using ForceFit.Theory.Permittivity;
 // Run by hand: dotnet run -c Release --project bench/ForceFit.Bench            (quick figures and peak memory)
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --bdn   (BenchmarkDotNet, stable timings)
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --simulate   (10 million samples as CSV)
+//              dotnet run -c Release --project bench/ForceFit.Bench -- --ingest [night-folder]   (CSV and HDF5 to steps)
+if (args.Contains("--ingest"))
+{
+    ForceFit.Bench.IngestBenchmark.Run(args.SkipWhile(a => a != "--ingest").Skip(1).FirstOrDefault());
+    return;
+}
 if (args.Contains("--simulate"))
 {
     ForceFit.Bench.SimulationBenchmark.Run();

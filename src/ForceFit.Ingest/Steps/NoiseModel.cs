@@ -45,11 +45,15 @@ public sealed class NoiseModel
     {
         private readonly double[] _sums = new double[maxLag + 1];
         private readonly double[] _pairs = new double[maxLag + 1];
-        private readonly List<(int N, int Lags)> _steps = [];
+        private readonly List<(int N, int Used)> _steps = [];
 
-        /// <summary>Adds a step's residuals about its mean.</summary>
-        public void Add(ReadOnlySpan<double> residuals)
+        /// <summary>At most this many residuals of a step enter the lag sums (the pooled estimate needs no more).</summary>
+        public const int MaxSamplesPerStep = 4096;
+
+        /// <summary>Adds a step's residuals about its mean (the mean of all its <paramref name="stepCount"/> kept samples).</summary>
+        public void Add(ReadOnlySpan<double> residuals, int stepCount)
         {
+            if (residuals.Length > MaxSamplesPerStep) residuals = residuals[..MaxSamplesPerStep];
             int n = residuals.Length;
             if (n < 2) return;
             int lags = Math.Min(_sums.Length - 1, n - 1);
@@ -60,7 +64,7 @@ public sealed class NoiseModel
                 _sums[k] += s;
                 _pairs[k] += n - k;
             }
-            _steps.Add((n, lags));
+            _steps.Add((stepCount, n));
         }
 
         /// <summary>Steps added.</summary>
@@ -84,11 +88,12 @@ public sealed class NoiseModel
                 // Mean of Var(step mean) over the pooled residual pairs, for this C.
                 var model = new NoiseModel(c, window, tau);
                 double weighted = 0, weight = 0;
-                foreach ((int n, _) in _steps)
+                // Weighted by the residuals each step contributed; Var(mean) with the step's full size.
+                foreach ((int n, int used) in _steps)
                 {
                     double v = model.SigmaOfMean(n);
-                    weighted += n * v * v;
-                    weight += n;
+                    weighted += used * v * v;
+                    weight += used;
                 }
                 double bias = weighted / weight;
                 var next = raw.Select(r => r + bias).ToArray();

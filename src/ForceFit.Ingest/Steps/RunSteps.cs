@@ -112,13 +112,16 @@ public static class RunSteps
             if (n == 0) return (double.NaN, double.NaN, 0, 0);
             Span<double> residual = n <= 4096 ? stackalloc double[n] : new double[n];
             for (int i = 0; i < n; i++) residual[i] = values[i] - (trend?.Invoke(i) ?? 0);
-            // Robust centre and spread: median and 1.4826 MAD.
-            var sorted = residual.ToArray();
+            // Robust centre and spread (median and 1.4826 MAD) from at most 4096 evenly spaced samples: enough to
+            // recognise glitches of tens of sigmas, and cheap for long steps.
+            int stride = Math.Max(1, n / 4096);
+            var sorted = new double[(n + stride - 1) / stride];
+            for (int i = 0, j = 0; i < n; i += stride) sorted[j++] = residual[i];
             Array.Sort(sorted);
-            double median = sorted[n / 2];
-            for (int i = 0; i < n; i++) sorted[i] = Math.Abs(sorted[i] - median);
+            double median = sorted[sorted.Length / 2];
+            for (int i = 0; i < sorted.Length; i++) sorted[i] = Math.Abs(sorted[i] - median);
             Array.Sort(sorted);
-            double spread = 1.4826 * sorted[n / 2];
+            double spread = 1.4826 * sorted[sorted.Length / 2];
             int clipped = 0;
             double sum = 0, sumTrend = 0;
             int kept = 0;
@@ -142,7 +145,7 @@ public static class RunSteps
                 keptResidual[i] -= residualMean;
                 ss += keptResidual[i] * keptResidual[i];
             }
-            _noise.Add(keptResidual[..kept]);
+            _noise.Add(keptResidual[..kept], kept);
             return (mean, kept > 1 ? Math.Sqrt(ss / (kept - 1) / kept) : double.NaN, kept, clipped);
         }
     }

@@ -117,19 +117,15 @@ public sealed class CsvSampleSource : ISampleSource
     {
         ReadOnlySpan<byte> record = _reader.RawRecord;
         problem = null;
+        if (FastRecord(record, values)) return true;
         if (record.IndexOf((byte)'"') >= 0) return ParseQuoted(values, out problem);
-        // Split the raw bytes at the separator; take the mapped fields.
+        // The careful path, which also says what is wrong: split at the separator, parse each mapped field.
         int field = 0, start = 0;
-        Span<int> found = stackalloc int[4];
         for (int i = 0; i <= record.Length; i++)
         {
             if (i < record.Length && record[i] != _separator) continue;
             for (int c = 0; c < 4; c++)
-            {
-                if (_index[c] != field) continue;
-                if (!Value(record[start..i], c, values, out problem)) return false;
-                found[c] = 1;
-            }
+                if (_index[c] == field && !Value(record[start..i], c, values, out problem)) return false;
             field++;
             start = i + 1;
         }
@@ -141,6 +137,54 @@ public sealed class CsvSampleSource : ISampleSource
         _ = line;
         return true;
     }
+
+    /// <summary>
+    /// One pass over a record of plain numbers: digits accumulate while the separators are found. Returns false
+    /// for anything unusual (quotes, spaces, exponents, more than 15 digits, empty or extra fields), which then
+    /// takes the careful path.
+    /// </summary>
+    private bool FastRecord(ReadOnlySpan<byte> record, Span<double> values)
+    {
+        int i = 0, field = 0, found = 0;
+        byte separator = _separator;
+        while (true)
+        {
+            int column = -1;
+            for (int c = 0; c < 4; c++) if (_index[c] == field) column = c;
+            if (column < 0)
+            {
+                int next = record[i..].IndexOf(separator);
+                if (next < 0) { i = record.Length; field++; break; }
+                i += next + 1;
+                field++;
+                continue;
+            }
+            bool negative = false;
+            if (i < record.Length && record[i] == (byte)'-') { negative = true; i++; }
+            ulong mantissa = 0;
+            int digits = 0, fraction = 0;
+            uint d;
+            while (i < record.Length && (d = (uint)(record[i] - '0')) <= 9) { mantissa = mantissa * 10 + d; digits++; i++; }
+            if (i < record.Length && record[i] == (byte)'.')
+            {
+                i++;
+                int fractionStart = i;
+                while (i < record.Length && (d = (uint)(record[i] - '0')) <= 9) { mantissa = mantissa * 10 + d; digits++; i++; }
+                fraction = i - fractionStart;
+            }
+            if (digits == 0 || digits > 15) return false;
+            double v = fraction == 0 ? mantissa : mantissa / PowersOfTen[fraction];
+            values[column] = negative ? -v : v;
+            found++;
+            field++;
+            if (i == record.Length) break;
+            if (record[i] != separator) return false;
+            i++;
+        }
+        return found == 4 && field == _fieldCount;
+    }
+
+    private static readonly double[] PowersOfTen = Enumerable.Range(0, 23).Select(k => Math.Pow(10, k)).ToArray();
 
     private bool ParseQuoted(Span<double> values, out string? problem)
     {
