@@ -18,6 +18,9 @@ public sealed class NoiseModel
         IntegratedTime = tau;
     }
 
+    /// <summary>True when Sokal's rule was met within the longest lag computed (else the window is that lag, and short).</summary>
+    public bool WindowConverged { get; private init; } = true;
+
     /// <summary>Summation window W (samples).</summary>
     public int Window { get; }
 
@@ -48,7 +51,7 @@ public sealed class NoiseModel
         private readonly List<(int N, int Used)> _steps = [];
 
         /// <summary>At most this many residuals of a step enter the lag sums (the pooled estimate needs no more).</summary>
-        public const int MaxSamplesPerStep = 4096;
+        public const int MaxSamplesPerStep = 2048;
 
         /// <summary>Adds a step's residuals about its mean (the mean of all its <paramref name="stepCount"/> kept samples).</summary>
         public void Add(ReadOnlySpan<double> residuals, int stepCount)
@@ -102,7 +105,7 @@ public sealed class NoiseModel
                 if (change < 1e-10) break;
             }
             (window, tau) = SokalWindow(c);
-            return new NoiseModel(c, window, tau);
+            return new NoiseModel(c, window, tau) { WindowConverged = window < c.Length - 1 || window >= 6 * tau };
         }
 
         private static (int Window, double Tau) SokalWindow(double[] c)

@@ -52,7 +52,7 @@ public sealed record RunSegments(RunSettings Run, IReadOnlyList<SegmentStatistic
 public static class RunSteps
 {
     private const int BlockSize = 1 << 16;
-    private const int MaxLag = 400;
+    private const int MaxLag = 256;
 
     /// <summary>Reduces one run. Progress receives bytes read; cancellation is checked between blocks.</summary>
     public static RunSegments Read(RunSettings run, IProgress<long>? progress = null, CancellationToken cancel = default)
@@ -83,6 +83,8 @@ public static class RunSteps
             "too few samples after the settle time to estimate the noise: are the steps shorter than 'settle'?"));
         var segments = pending.Select((r, i) => new SegmentStatistics(run.Name, i, r.Kind, r.Start, r.End, r.Piezo, r.Bias, r.Mean,
             model.SigmaOfMean(r.N), r.NaiveSigma, r.N, r.Clipped, r.FirstLine)).ToArray();
+        if (!model.WindowConverged)
+            warnings.Add($"{run.DataFile}: the signal's correlation time ({model.IntegratedTime:F0} samples) needs a longer window than the {MaxLag} lags computed; the step uncertainties may be too small");
         int clipped = segments.Sum(s => s.Clipped);
         if (clipped > 0) warnings.Add($"{run.DataFile}: {clipped} sample(s) in {segments.Count(s => s.Clipped > 0)} step(s) were more than 10 robust sigmas from their step and were left out as glitches");
         return new RunSegments(run, segments, model, segmenter.Thresholds, samples, source.Length, warnings);
@@ -96,6 +98,9 @@ public static class RunSteps
         protected readonly RunSettings Run = run;
         protected readonly List<Raw> Output = output;
         private readonly NoiseModel.Accumulator _noise = noise;
+        // Work buffers reused from step to step (long steps would otherwise allocate on the large-object heap).
+        private double[] _residual = new double[4096], _keptResidual = new double[4096];
+        private readonly double[] _sorted = new double[4097];
         public StepThresholds Thresholds { get; } = thresholds;
 
         public abstract void Add(double t, double p, double v, double s, long line);
@@ -110,22 +115,27 @@ public static class RunSteps
         {
             int n = values.Count;
             if (n == 0) return (double.NaN, double.NaN, 0, 0);
-            Span<double> residual = n <= 4096 ? stackalloc double[n] : new double[n];
+            if (_residual.Length < n)
+            {
+                _residual = new double[Math.Max(n, 2 * _residual.Length)];
+                _keptResidual = new double[_residual.Length];
+            }
+            Span<double> residual = _residual.AsSpan(0, n);
             for (int i = 0; i < n; i++) residual[i] = values[i] - (trend?.Invoke(i) ?? 0);
             // Robust centre and spread (median and 1.4826 MAD) from at most 4096 evenly spaced samples: enough to
             // recognise glitches of tens of sigmas, and cheap for long steps.
-            int stride = Math.Max(1, n / 4096);
-            var sorted = new double[(n + stride - 1) / stride];
+            int stride = Math.Max(1, (n + 4095) / 4096);
+            Span<double> sorted = _sorted.AsSpan(0, (n + stride - 1) / stride);
             for (int i = 0, j = 0; i < n; i += stride) sorted[j++] = residual[i];
-            Array.Sort(sorted);
+            sorted.Sort();
             double median = sorted[sorted.Length / 2];
             for (int i = 0; i < sorted.Length; i++) sorted[i] = Math.Abs(sorted[i] - median);
-            Array.Sort(sorted);
+            sorted.Sort();
             double spread = 1.4826 * sorted[sorted.Length / 2];
             int clipped = 0;
             double sum = 0, sumTrend = 0;
             int kept = 0;
-            Span<double> keptResidual = n <= 4096 ? stackalloc double[n] : new double[n];
+            Span<double> keptResidual = _keptResidual.AsSpan(0, n);
             for (int i = 0; i < n; i++)
             {
                 if (spread > 0 && Math.Abs(residual[i] - median) > 10 * spread)
@@ -157,6 +167,7 @@ public static class RunSteps
         private readonly double _settle;
         private readonly List<double> _t = [], _p = [], _v = [], _s = [];
         private readonly List<long> _lines = [];
+        private readonly List<double> _kept = [];
 
         public StepSegmenter(RunSettings run, StepThresholds thresholds, List<Raw> output, NoiseModel.Accumulator noise)
             : base(run, thresholds, output, noise)
@@ -181,7 +192,8 @@ public static class RunSteps
         {
             if (count == 0) return;
             double start = _t[0];
-            var kept = new List<double>();
+            List<double> kept = _kept;
+            kept.Clear();
             double sumP = 0, sumV = 0;
             int first = -1;
             for (int i = 0; i < count; i++)

@@ -116,7 +116,13 @@ public sealed class Hdf5SampleSource : ISampleSource
 /// <summary>Opens the right source for a run's data file.</summary>
 public static class SampleSources
 {
-    /// <summary>CSV/TSV or HDF5 by the file's extension.</summary>
-    public static ISampleSource Open(RunSettings run) =>
-        DataFileProbe.KindOf(run.DataFile) == DataFileKind.Hdf5 ? new Hdf5SampleSource(run) : new CsvSampleSource(run);
+    /// <summary>
+    /// HDF5 by the file's extension; CSV/TSV through the parallel chunked reader when the file holds plain
+    /// numbers, or through the CsvHelper-based reader when its data have quoted fields.
+    /// </summary>
+    public static ISampleSource Open(RunSettings run)
+    {
+        if (DataFileProbe.KindOf(run.DataFile) == DataFileKind.Hdf5) return new Hdf5SampleSource(run);
+        return ChunkedCsvSampleSource.Suits(run.DataFile) ? new ChunkedCsvSampleSource(run) : new CsvSampleSource(run);
+    }
 }
