@@ -14,10 +14,12 @@ public static class IngestBenchmark
     /// <summary>Simulates a large run (or uses the night folder given) and times the reduction to steps.</summary>
     public static void Run(string? nightFolder)
     {
-        string folder = nightFolder ?? Path.Combine(Path.GetTempPath(), "forcefit-bench-ingest");
+        bool large = Environment.GetEnvironmentVariable("FORCEFIT_BENCH_4GB") == "1";
+        string folder = nightFolder ?? Path.Combine(Path.GetTempPath(), large ? "forcefit-bench-ingest-4gb" : "forcefit-bench-ingest");
         if (nightFolder is null && !Directory.Exists(folder))
         {
-            var s = new Scenario { Runs = 1, SampleRate = 10_000, StepDuration = 5.2, Positions = 24, Biases = 7 };
+            // FORCEFIT_BENCH_4GB=1: about 10^8 samples, a 4.3 GB CSV, for the memory check on a very large night.
+            var s = new Scenario { Runs = 1, SampleRate = large ? 100_000 : 10_000, StepDuration = 5.2, Positions = 24, Biases = 7 };
             NightSimulator.Simulate(new SimulationRequest(folder, s, 1, false, SimulationRequest.DefaultColumns(s.Mode, false)));
             var h5 = new Scenario { Runs = 1, SampleRate = 2_000, StepDuration = 5.2, Positions = 24, Biases = 7 };
             NightSimulator.Simulate(new SimulationRequest(folder + "-h5", h5, 1, true, SimulationRequest.DefaultColumns(h5.Mode, true)));

@@ -16,7 +16,7 @@ public static class SimulateCommand
               --ideal (no imperfections)   --without <list> (correlated-noise, readout-noise, settling, drift,
                 v0-variation, piezo-scale, gap-drift, glitches, dropped-samples)
               --positions <n>  --biases <n>  --step <time>  --rate <frequency>
-              --units time=s,piezo=nm,bias=mV,signal=Hz
+              --units time=s,piezo=nm,bias=mV,signal=Hz   --names t,zp,Ub,f_pll (column names or HDF5 paths)
         """;
 
     private static readonly string[] ImperfectionNames =
@@ -43,6 +43,7 @@ public static class SimulateCommand
         bool hdf5 = false;
         double noise = 1;
         string? units = null;
+        string? names = null;
         var im = new Imperfections();
         for (int i = 0; i < args.Length; i++)
         {
@@ -98,6 +99,7 @@ public static class SimulateCommand
                 case "--step": s = s with { StepDuration = Quantity(Value(), "--step", Dimension.Time) }; break;
                 case "--rate": s = s with { SampleRate = Quantity(Value(), "--rate", Dimension.Frequency) }; break;
                 case "--units": units = Value(); break;
+                case "--names": names = Value(); break;
                 default: throw new UsageException($"unknown option '{args[i]}' for simulate");
             }
         }
@@ -113,6 +115,14 @@ public static class SimulateCommand
         if (s.Settle >= s.StepDuration) throw new UsageException($"--step must be longer than the settle time {s.Settle} s");
         IReadOnlyList<OutputColumn> columns = SimulationRequest.DefaultColumns(s.Mode, hdf5);
         if (units is not null) columns = WithUnits(columns, units, s.Mode);
+        if (names is not null)
+        {
+            string[] given = names.Split(',').Select(n => n.Trim()).ToArray();
+            if (given.Length != 4 || given.Any(n => n.Length == 0 || n.Contains('"') || n.Contains(',')))
+                throw new UsageException($"--names takes four column names (time, piezo, bias, signal) separated by commas, got '{names}'");
+            if (given.Distinct(StringComparer.Ordinal).Count() != 4) throw new UsageException("--names: the four column names must differ");
+            columns = columns.Select((c, i) => c with { Name = given[i] }).ToArray();
+        }
         return new SimulationRequest(outFolder, s, seed, hdf5, columns);
     }
 

@@ -196,3 +196,42 @@ public sealed class TheoryCommandTests
         Assert.That(errors.Trim(), Is.EqualTo($"error: {file}: no [[theory]] entry; add one with name, sphere and plate"));
     }
 }
+
+/// <summary>`forcefit simulate` options: units and names chosen by the user end up in the run file and the data.</summary>
+public sealed class SimulateCommandTests
+{
+    [Test]
+    public void Chosen_units_and_names_are_written_and_read_back()
+    {
+        string folder = Path.Combine(Path.GetTempPath(), "forcefit-tests", Guid.NewGuid().ToString("N"));
+        string night = Path.Combine(folder, "n");
+        var output = new StringWriter();
+        var errors = new StringWriter();
+        int exit = Commands.Run(["simulate", "--out", night, "--runs", "1", "--positions", "3", "--biases", "3", "--step", "1s",
+            "--units", "piezo=um,bias=V,signal=kHz", "--names", "time,z_piezo,U,freq"], output, errors);
+        Assert.That(exit, Is.Zero, errors.ToString());
+        string header = File.ReadLines(Path.Combine(night, "run-01.csv")).First(l => !l.StartsWith('#'));
+        Assert.That(header, Is.EqualTo("time,z_piezo,U,freq"));
+        var settings = ForceFit.Ingest.NightCheck.Run(night).Runs.Single();
+        Assert.That(settings.Columns.Piezo.Unit.Symbol, Is.EqualTo("um"));
+        Assert.That(settings.Columns.Frequency!.Unit.Symbol, Is.EqualTo("kHz"));
+        // 25 kHz written in kHz.
+        string firstRow = File.ReadLines(Path.Combine(night, "run-01.csv")).Where(l => !l.StartsWith('#')).Skip(1).First();
+        Assert.That(double.Parse(firstRow.Split(',')[3], System.Globalization.CultureInfo.InvariantCulture), Is.EqualTo(25).Within(0.1));
+        Directory.Delete(folder, true);
+    }
+
+    [TestCase("--names a,b,c", "usage error: --names takes four column names (time, piezo, bias, signal) separated by commas, got 'a,b,c'")]
+    [TestCase("--units piezo=kHz", "usage error: --units: 'kHz' is not a unit of a length for piezo")]
+    [TestCase("--mode static", "usage error: --mode is frequency-shift or deflection, got 'static'")]
+    [TestCase("--without sparks", "usage error: --without: unknown imperfection 'sparks'; known: correlated-noise, readout-noise, settling, drift, v0-variation, piezo-scale, gap-drift, glitches, dropped-samples")]
+    [TestCase("--runs 0", "usage error: --runs must be a whole number from 1 to 1000, got '0'")]
+    public void Wrong_options_exit_2(string options, string message)
+    {
+        var errors = new StringWriter();
+        int exit = Commands.Run(["simulate", "--out", "/tmp/never-written", .. options.Split(' ')], new StringWriter(), errors);
+        Assert.That(exit, Is.EqualTo(2));
+        Assert.That(errors.ToString().Split(Environment.NewLine)[0], Is.EqualTo(message));
+        Assert.That(Directory.Exists("/tmp/never-written"), Is.False);
+    }
+}
