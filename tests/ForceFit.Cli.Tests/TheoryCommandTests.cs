@@ -1,30 +1,19 @@
 using System.Globalization;
 using System.Numerics;
 using ForceFit.Cli;
+using ForceFit.Tests.Shared;
 
 namespace ForceFit.Cli.Tests;
 
 /// <summary>`forcefit theory` end to end: files in, CSV out, checked against published limits.</summary>
-public sealed class TheoryCommandTests
+public sealed class TheoryCommandTests : TemporaryFolderTest
 {
     private const double Hbar = 6.62607015e-34 / (2 * Math.PI); // CODATA 2018 (exact)
     private const double C = 299792458.0;
     private const double EV = 1.602176634e-19 / Hbar; // rad/s per eV
-    private string _folder = "";
-
-    [SetUp]
-    public void MakeFolder()
-    {
-        _folder = Path.Combine(Path.GetTempPath(), "forcefit-tests", Guid.NewGuid().ToString("N"));
-        Directory.CreateDirectory(_folder);
-    }
-
-    [TearDown]
-    public void RemoveFolder() => Directory.Delete(_folder, recursive: true);
-
     private string TheoryFile(string name, string surfaces, string materials, string theories, string radius = "100 um")
     {
-        string path = Path.Combine(_folder, name);
+        string path = Path.Combine(Folder, name);
         File.WriteAllText(path, $"""
             title = "theory-only test file"
             [sphere]
@@ -72,7 +61,7 @@ public sealed class TheoryCommandTests
     {
         string file = TheoryFile("two.toml", "temperature = \"300 K\"", IdealMetal + "\n[materials.au]\nmodel = \"drude\"\nplasma_frequency = \"9 eV\"\ndamping = \"35 meV\"",
             IdealTheory + "\n[[theory]]\nname = \"Drude\"\nsphere = \"au\"\nplate = \"au\"");
-        string outFile = Path.Combine(_folder, "out", "theory.csv");
+        string outFile = Path.Combine(Folder, "out", "theory.csv");
         var (exit, output, errors) = Run("theory", file, "--from", "100nm", "--to", "1000nm", "--count", "10", "--out", outFile);
         Assert.That(exit, Is.Zero, errors);
         Assert.That(output, Does.Contain("wrote 20 rows"));
@@ -129,7 +118,7 @@ public sealed class TheoryCommandTests
                 double h = i * width / 10;
                 lines.Add(FormattableString.Invariant($"{h},{Math.Exp(-h * h / (2 * width * width))}"));
             }
-            File.WriteAllLines(Path.Combine(_folder, name), lines);
+            File.WriteAllLines(Path.Combine(Folder, name), lines);
         }
         string rms = TheoryFile("rms.toml", "temperature = \"0 K\"\nsphere_roughness = \"1.1 nm\"\nplate_roughness = \"0.9 nm\"", IdealMetal, IdealTheory);
         string measured = TheoryFile("measured.toml", "temperature = \"0 K\"\nsphere_roughness = \"sphere.csv\"\nplate_roughness = \"plate.csv\"", IdealMetal, IdealTheory);
@@ -151,7 +140,7 @@ public sealed class TheoryCommandTests
             Complex root = Complex.Sqrt(1 - Math.Pow(9 * EV, 2) / (w * new Complex(w, 0.035 * EV)));
             lines.Add(FormattableString.Invariant($"{ev:R},{root.Real:R},{root.Imaginary:R}"));
         }
-        File.WriteAllLines(Path.Combine(_folder, "au-optics.csv"), lines);
+        File.WriteAllLines(Path.Combine(Folder, "au-optics.csv"), lines);
         string materials = """
             [materials.au-table]
             model = "optical-data"

@@ -6,24 +6,13 @@ using ForceFit.Theory.Electrostatics;
 using ForceFit.Theory.Geometry;
 using ForceFit.Theory.Lifshitz;
 using ForceFit.Theory.Permittivity;
+using ForceFit.Tests.Shared;
 
 namespace ForceFit.Simulation.Tests;
 
 /// <summary>The simulator against its own definitions, closed forms and the statistics of its noise.</summary>
-public sealed class SimulatorTests
+public sealed class SimulatorTests : TemporaryFolderTest
 {
-    private string _folder = "";
-
-    [SetUp]
-    public void MakeFolder()
-    {
-        _folder = Path.Combine(Path.GetTempPath(), "forcefit-tests", Guid.NewGuid().ToString("N"));
-        Directory.CreateDirectory(_folder);
-    }
-
-    [TearDown]
-    public void RemoveFolder() => Directory.Delete(_folder, recursive: true);
-
     private static Scenario Small(SimulatedMode mode = SimulatedMode.FrequencyShift, SimulatedProtocol protocol = SimulatedProtocol.VoltageSteps) => new()
     {
         Mode = mode,
@@ -37,7 +26,7 @@ public sealed class SimulatorTests
     };
 
     private NightTruth Simulate(string name, Scenario s, ulong seed, bool hdf5 = false) =>
-        NightSimulator.Simulate(new SimulationRequest(Path.Combine(_folder, name), s, seed, hdf5, SimulationRequest.DefaultColumns(s.Mode, hdf5)));
+        NightSimulator.Simulate(new SimulationRequest(Path.Combine(Folder, name), s, seed, hdf5, SimulationRequest.DefaultColumns(s.Mode, hdf5)));
 
     [Test]
     public void The_same_seed_gives_the_same_bytes_and_another_seed_does_not()
@@ -47,19 +36,19 @@ public sealed class SimulatorTests
         Simulate("c", Small(), 43);
         foreach (string file in new[] { "night.toml", "run-01.toml", "run-01.csv" })
         {
-            Assert.That(File.ReadAllBytes(Path.Combine(_folder, "b", file)), Is.EqualTo(File.ReadAllBytes(Path.Combine(_folder, "a", file))), file);
+            Assert.That(File.ReadAllBytes(Path.Combine(Folder, "b", file)), Is.EqualTo(File.ReadAllBytes(Path.Combine(Folder, "a", file))), file);
         }
-        Assert.That(File.ReadAllBytes(Path.Combine(_folder, "b.truth.json")), Is.EqualTo(File.ReadAllBytes(Path.Combine(_folder, "a.truth.json"))));
-        Assert.That(File.ReadAllBytes(Path.Combine(_folder, "c", "run-01.csv")), Is.Not.EqualTo(File.ReadAllBytes(Path.Combine(_folder, "a", "run-01.csv"))));
+        Assert.That(File.ReadAllBytes(Path.Combine(Folder, "b.truth.json")), Is.EqualTo(File.ReadAllBytes(Path.Combine(Folder, "a.truth.json"))));
+        Assert.That(File.ReadAllBytes(Path.Combine(Folder, "c", "run-01.csv")), Is.Not.EqualTo(File.ReadAllBytes(Path.Combine(Folder, "a", "run-01.csv"))));
     }
 
     [Test]
-    public void The_truth_file_lies_beside_the_night_folder_and_holds_what_was_injected()
+    public void The_truth_file_lies_beside_the_nightFolder_and_holds_what_was_injected()
     {
         Scenario s = Small() with { ResidualPotential = 0.033, PiezoScale = 1.007 };
         NightTruth written = Simulate("night", s, 5);
-        Assert.That(Directory.GetFiles(Path.Combine(_folder, "night")).Select(Path.GetFileName).Order(), Is.EqualTo(new[] { "night.toml", "run-01.csv", "run-01.toml" }));
-        NightTruth read = NightSimulator.ReadTruth(Path.Combine(_folder, "night.truth.json"));
+        Assert.That(Directory.GetFiles(Path.Combine(Folder, "night")).Select(Path.GetFileName).Order(), Is.EqualTo(new[] { "night.toml", "run-01.csv", "run-01.toml" }));
+        NightTruth read = NightSimulator.ReadTruth(Path.Combine(Folder, "night.truth.json"));
         Assert.That(read.Seed, Is.EqualTo(5UL));
         Assert.That(read.Scenario, Is.EqualTo(s));
         Assert.That(read.Runs.Single().Run, Is.EqualTo(written.Runs.Single().Run));
@@ -74,7 +63,7 @@ public sealed class SimulatorTests
     public void The_written_night_is_a_valid_night_for_the_reader(SimulatedMode mode, SimulatedProtocol protocol, bool hdf5)
     {
         Simulate("n", Small(mode, protocol), 3, hdf5);
-        NightSettings night = ForceFit.Ingest.NightCheck.Run(Path.Combine(_folder, "n"));
+        NightSettings night = ForceFit.Ingest.NightCheck.Run(Path.Combine(Folder, "n"));
         Assert.That(night.Runs.Single().Protocol == Protocol.VoltageSteps, Is.EqualTo(protocol == SimulatedProtocol.VoltageSteps));
         Assert.That(night.Runs.Single().Instrument.Mode == InstrumentMode.FrequencyShift, Is.EqualTo(mode == SimulatedMode.FrequencyShift));
     }
@@ -86,7 +75,7 @@ public sealed class SimulatorTests
         // step mean, to the written resolution (1e-7 Hz).
         Scenario s = Small() with { Imperfections = Imperfections.None, FrequencyNoise = 0 };
         NightTruth truth = Simulate("q", s, 1);
-        string[] lines = File.ReadAllLines(Path.Combine(_folder, "q", "run-01.csv")).Where(l => !l.StartsWith('#')).Skip(1).ToArray();
+        string[] lines = File.ReadAllLines(Path.Combine(Folder, "q", "run-01.csv")).Where(l => !l.StartsWith('#')).Skip(1).ToArray();
         double[][] rows = lines.Select(l => l.Split(',').Select(x => double.Parse(x, CultureInfo.InvariantCulture)).ToArray()).ToArray();
         foreach (StepTruth step in truth.Runs.Single().Steps)
         {
@@ -208,12 +197,12 @@ public sealed class SimulatorTests
     }
 
     [Test]
-    public void An_output_folder_that_is_not_empty_is_refused()
+    public void An_outputFolder_that_is_not_empty_is_refused()
     {
-        Directory.CreateDirectory(Path.Combine(_folder, "full"));
-        File.WriteAllText(Path.Combine(_folder, "full", "keep.txt"), "precious");
+        Directory.CreateDirectory(Path.Combine(Folder, "full"));
+        File.WriteAllText(Path.Combine(Folder, "full", "keep.txt"), "precious");
         var e = Assert.Throws<ForceFit.Core.Problems.InputException>(() => Simulate("full", Small(), 1))!;
         Assert.That(e.Message, Does.EndWith("the output folder is not empty; choose a new folder"));
-        Assert.That(File.ReadAllText(Path.Combine(_folder, "full", "keep.txt")), Is.EqualTo("precious"));
+        Assert.That(File.ReadAllText(Path.Combine(Folder, "full", "keep.txt")), Is.EqualTo("precious"));
     }
 }

@@ -42,8 +42,7 @@ public sealed class ChunkedCsvSampleSource : ISampleSource
         DataFileHeader header = DataFileProbe.ReadHeader(_file);
         IReadOnlyList<Problem> missing = DataFileProbe.CheckColumns(run);
         if (missing.Count > 0) throw new InputException(missing);
-        ColumnSettings signal = run.Instrument.Mode == InstrumentMode.Deflection ? run.Columns.Deflection! : run.Columns.Frequency!;
-        ColumnSettings[] columns = [run.Columns.Time, run.Columns.Piezo, run.Columns.Bias, signal];
+        ColumnSettings[] columns = MappedChannels.Of(run);
         for (int c = 0; c < 4; c++)
         {
             _index[c] = header.Columns.ToList().IndexOf(columns[c].Name);
@@ -303,6 +302,25 @@ internal static class ChunkParsing
         return found == 4 && field == fieldCount;
     }
 
+    /// <summary>Parses one cell; on failure says what is wrong with it, naming the column.</summary>
+    public static bool Cell(ReadOnlySpan<byte> cell, string column, out double value, out string? problem)
+    {
+        problem = null;
+        if (!FastNumber.TryParse(cell, out value))
+        {
+            problem = cell.Trim((byte)' ').Length == 0
+                ? $"column '{column}': the cell is empty"
+                : $"column '{column}': '{Encoding.UTF8.GetString(cell)}' is not a number";
+            return false;
+        }
+        if (!double.IsFinite(value))
+        {
+            problem = $"column '{column}': '{Encoding.UTF8.GetString(cell)}' is not a finite number";
+            return false;
+        }
+        return true;
+    }
+
     /// <summary>Splits at the separator and parses each mapped field, saying what is wrong when it fails.</summary>
     public static bool Careful(ReadOnlySpan<byte> record, byte separator, int[] index, int fieldCount, string[] names, Span<double> values, out string? problem)
     {
@@ -314,20 +332,7 @@ internal static class ChunkParsing
             for (int c = 0; c < 4; c++)
             {
                 if (index[c] != field) continue;
-                ReadOnlySpan<byte> cell = record[start..i];
-                if (!FastNumber.TryParse(cell, out double v))
-                {
-                    problem = cell.Trim((byte)' ').Length == 0
-                        ? $"column '{names[c]}': the cell is empty"
-                        : $"column '{names[c]}': '{Encoding.UTF8.GetString(cell)}' is not a number";
-                    return false;
-                }
-                if (!double.IsFinite(v))
-                {
-                    problem = $"column '{names[c]}': '{Encoding.UTF8.GetString(cell)}' is not a finite number";
-                    return false;
-                }
-                values[c] = v;
+                if (!Cell(record[start..i], names[c], out values[c], out problem)) return false;
             }
             field++;
             start = i + 1;

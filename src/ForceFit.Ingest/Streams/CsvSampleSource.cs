@@ -1,4 +1,3 @@
-using System.Text;
 using CsvHelper;
 using ForceFit.Core.Problems;
 using ForceFit.Ingest.Data;
@@ -35,9 +34,7 @@ public sealed class CsvSampleSource : ISampleSource
         DataFileHeader header = DataFileProbe.ReadHeader(_file);
         IReadOnlyList<Problem> missing = DataFileProbe.CheckColumns(run);
         if (missing.Count > 0) throw new InputException(missing);
-        ColumnSettings signal = run.Columns.Frequency ?? run.Columns.Deflection!;
-        if (run.Instrument.Mode == InstrumentMode.Deflection) signal = run.Columns.Deflection!;
-        ColumnSettings[] columns = [run.Columns.Time, run.Columns.Piezo, run.Columns.Bias, signal];
+        ColumnSettings[] columns = MappedChannels.Of(run);
         for (int c = 0; c < 4; c++)
         {
             _index[c] = header.Columns.ToList().IndexOf(columns[c].Name);
@@ -117,104 +114,17 @@ public sealed class CsvSampleSource : ISampleSource
     {
         ReadOnlySpan<byte> record = _reader.RawRecord;
         problem = null;
-        if (FastRecord(record, values)) return true;
-        if (record.IndexOf((byte)'"') >= 0) return ParseQuoted(values, out problem);
-        // The careful path, which also says what is wrong: split at the separator, parse each mapped field.
-        int field = 0, start = 0;
-        for (int i = 0; i <= record.Length; i++)
-        {
-            if (i < record.Length && record[i] != _separator) continue;
-            for (int c = 0; c < 4; c++)
-                if (_index[c] == field && !Value(record[start..i], c, values, out problem)) return false;
-            field++;
-            start = i + 1;
-        }
-        if (field != _fieldCount)
-        {
-            problem = $"the row has {field} fields, the header {_fieldCount}";
-            return false;
-        }
         _ = line;
-        return true;
-    }
-
-    /// <summary>
-    /// One pass over a record of plain numbers: digits accumulate while the separators are found. Returns false
-    /// for anything unusual (quotes, spaces, exponents, more than 15 digits, empty or extra fields), which then
-    /// takes the careful path.
-    /// </summary>
-    private bool FastRecord(ReadOnlySpan<byte> record, Span<double> values)
-    {
-        int i = 0, field = 0, found = 0;
-        byte separator = _separator;
-        while (true)
-        {
-            int column = -1;
-            for (int c = 0; c < 4; c++) if (_index[c] == field) column = c;
-            if (column < 0)
-            {
-                int next = record[i..].IndexOf(separator);
-                if (next < 0) { i = record.Length; field++; break; }
-                i += next + 1;
-                field++;
-                continue;
-            }
-            bool negative = false;
-            if (i < record.Length && record[i] == (byte)'-') { negative = true; i++; }
-            ulong mantissa = 0;
-            int digits = 0, fraction = 0;
-            uint d;
-            while (i < record.Length && (d = (uint)(record[i] - '0')) <= 9) { mantissa = mantissa * 10 + d; digits++; i++; }
-            if (i < record.Length && record[i] == (byte)'.')
-            {
-                i++;
-                int fractionStart = i;
-                while (i < record.Length && (d = (uint)(record[i] - '0')) <= 9) { mantissa = mantissa * 10 + d; digits++; i++; }
-                fraction = i - fractionStart;
-            }
-            if (digits == 0 || digits > 15) return false;
-            double v = fraction == 0 ? mantissa : mantissa / PowersOfTen[fraction];
-            values[column] = negative ? -v : v;
-            found++;
-            field++;
-            if (i == record.Length) break;
-            if (record[i] != separator) return false;
-            i++;
-        }
-        return found == 4 && field == _fieldCount;
-    }
-
-    private static readonly double[] PowersOfTen = Enumerable.Range(0, 23).Select(k => Math.Pow(10, k)).ToArray();
-
-    private bool ParseQuoted(Span<double> values, out string? problem)
-    {
-        problem = null;
+        if (ChunkParsing.Fast(record, _separator, _index, _fieldCount, values)) return true;
+        if (record.IndexOf((byte)'"') < 0) return ChunkParsing.Careful(record, _separator, _index, _fieldCount, _names, values, out problem);
+        // Quoted fields: CsvHelper unquotes them.
         if (_reader.FieldCount != _fieldCount)
         {
             problem = $"the row has {_reader.FieldCount} fields, the header {_fieldCount}";
             return false;
         }
         for (int c = 0; c < 4; c++)
-            if (!Value(_reader.GetSpan(_index[c]), c, values, out problem)) return false;
-        return true;
-    }
-
-    private bool Value(ReadOnlySpan<byte> cell, int column, Span<double> values, out string? problem)
-    {
-        problem = null;
-        if (!FastNumber.TryParse(cell, out double v))
-        {
-            problem = cell.Trim((byte)' ').Length == 0
-                ? $"column '{_names[column]}': the cell is empty"
-                : $"column '{_names[column]}': '{Encoding.UTF8.GetString(cell)}' is not a number";
-            return false;
-        }
-        if (!double.IsFinite(v))
-        {
-            problem = $"column '{_names[column]}': '{Encoding.UTF8.GetString(cell)}' is not a finite number";
-            return false;
-        }
-        values[column] = v;
+            if (!ChunkParsing.Cell(_reader.GetSpan(_index[c]), _names[c], out values[c], out problem)) return false;
         return true;
     }
 

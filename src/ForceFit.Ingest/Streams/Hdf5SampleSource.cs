@@ -29,8 +29,7 @@ public sealed class Hdf5SampleSource : ISampleSource
         _file = run.DataFile;
         IReadOnlyList<Problem> missing = DataFileProbe.CheckColumns(run);
         if (missing.Count > 0) throw new InputException(missing);
-        ColumnSettings signal = run.Instrument.Mode == InstrumentMode.Deflection ? run.Columns.Deflection! : run.Columns.Frequency!;
-        ColumnSettings[] columns = [run.Columns.Time, run.Columns.Piezo, run.Columns.Bias, signal];
+        ColumnSettings[] columns = MappedChannels.Of(run);
         _handle = new NativeFileHandle(H5File.OpenRead(_file));
         Length = new FileInfo(_file).Length;
         for (int c = 0; c < 4; c++)

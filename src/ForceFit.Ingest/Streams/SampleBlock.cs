@@ -44,3 +44,14 @@ public interface ISampleSource : IDisposable
     /// <summary>Warnings met so far (a truncated last line, ...).</summary>
     IReadOnlyList<string> Warnings { get; }
 }
+
+/// <summary>The four channels a sample source reads, in order: time, piezo, bias and the mode's signal.</summary>
+public static class MappedChannels
+{
+    /// <summary>The run's column settings for time, piezo, bias and signal (frequency or deflection by mode).</summary>
+    public static ForceFit.Ingest.RunFiles.ColumnSettings[] Of(ForceFit.Ingest.RunFiles.RunSettings run)
+    {
+        var signal = run.Instrument.Mode == ForceFit.Ingest.RunFiles.InstrumentMode.Deflection ? run.Columns.Deflection! : run.Columns.Frequency!;
+        return [run.Columns.Time, run.Columns.Piezo, run.Columns.Bias, signal];
+    }
+}

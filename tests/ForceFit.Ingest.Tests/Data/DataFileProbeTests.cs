@@ -7,26 +7,14 @@ using PureHDF;
 namespace ForceFit.Ingest.Tests.Data;
 
 /// <summary>Confirming mapped columns in CSV/TSV headers and HDF5 dataset paths.</summary>
-public sealed class DataFileProbeTests
+public sealed class DataFileProbeTests : TemporaryFolderTest
 {
-    private string _folder = "";
-
-    [SetUp]
-    public void MakeFolder()
-    {
-        _folder = Path.Combine(Path.GetTempPath(), "forcefit-tests", Guid.NewGuid().ToString("N"));
-        Directory.CreateDirectory(_folder);
-    }
-
-    [TearDown]
-    public void RemoveFolder() => Directory.Delete(_folder, recursive: true);
-
     private string RunFile(string data, string columns)
     {
         string baseRun = File.ReadAllText(Path.Combine(MalformedRunFiles.Folder, "_base-run.txt"));
         string text = baseRun.Replace("data = \"../data/good.csv\"", $"data = \"{data}\"");
         text = text[..text.IndexOf("[columns]", StringComparison.Ordinal)] + columns;
-        string path = Path.Combine(_folder, "run-h5.toml");
+        string path = Path.Combine(Folder, "run-h5.toml");
         File.WriteAllText(path, text);
         return path;
     }
@@ -44,7 +32,7 @@ public sealed class DataFileProbeTests
         var raw = new H5Group();
         foreach (string name in names) raw[name] = new double[] { 0.0, 0.1, 0.2 };
         var file = new H5File { ["raw"] = raw, ["note"] = new double[,] { { 1, 2 }, { 3, 4 } } };
-        file.Write(Path.Combine(_folder, "run.h5"));
+        file.Write(Path.Combine(Folder, "run.h5"));
     }
 
     [Test]
@@ -64,7 +52,7 @@ public sealed class DataFileProbeTests
         WriteH5("t", "zp", "Ub", "f");
         string run = RunFile("run.h5", H5Columns);
         var e = Assert.Throws<InputException>(() => NightCheck.Run(run))!;
-        string h5 = Path.Combine(_folder, "run.h5");
+        string h5 = Path.Combine(Folder, "run.h5");
         Assert.That(e.Problems.Single().ToString(), Is.EqualTo(
             $"{h5}: 1-D dataset 'raw/f_pll' mapped to frequency in {run} is not in the file; available: raw/t, raw/zp, raw/Ub, raw/f"));
     }
@@ -72,10 +60,10 @@ public sealed class DataFileProbeTests
     [Test]
     public void A_file_that_is_not_hdf5_is_reported_as_such()
     {
-        File.WriteAllText(Path.Combine(_folder, "run.h5"), "t,zp\n1,2\n");
+        File.WriteAllText(Path.Combine(Folder, "run.h5"), "t,zp\n1,2\n");
         string run = RunFile("run.h5", H5Columns);
         var e = Assert.Throws<InputException>(() => NightCheck.Run(run))!;
-        Assert.That(e.Problems.Single().ToString(), Does.StartWith($"{Path.Combine(_folder, "run.h5")}: not a readable HDF5 file: "));
+        Assert.That(e.Problems.Single().ToString(), Does.StartWith($"{Path.Combine(Folder, "run.h5")}: not a readable HDF5 file: "));
     }
 
     [TestCase("t,zp,Ub,f_pll", ',')]
@@ -91,7 +79,7 @@ public sealed class DataFileProbeTests
     [Test]
     public void Comment_lines_and_quoted_headers_are_handled()
     {
-        string csv = Path.Combine(_folder, "run.csv");
+        string csv = Path.Combine(Folder, "run.csv");
         File.WriteAllText(csv, "# logger v2\n\n# columns below\n\"t\";\"zp, raw\";\"Ub\";\"f \"\"pll\"\"\"\n1;2;3;4\n");
         DataFileHeader h = DataFileProbe.ReadHeader(csv);
         Assert.That(h.HeaderLine, Is.EqualTo(4));
@@ -102,7 +90,7 @@ public sealed class DataFileProbeTests
     [Test]
     public void An_empty_data_file_is_reported()
     {
-        string csv = Path.Combine(_folder, "empty.csv");
+        string csv = Path.Combine(Folder, "empty.csv");
         File.WriteAllText(csv, "# nothing here\n");
         var e = Assert.Throws<InputException>(() => DataFileProbe.ReadHeader(csv))!;
         Assert.That(e.Problems.Single().ToString(), Is.EqualTo($"{csv}: the file is empty: no header line"));

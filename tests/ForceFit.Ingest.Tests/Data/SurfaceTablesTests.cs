@@ -1,27 +1,16 @@
 using ForceFit.Core.Constants;
 using ForceFit.Core.Problems;
 using ForceFit.Ingest.Data;
+using ForceFit.Tests.Shared;
 
 namespace ForceFit.Ingest.Tests.Data;
 
 /// <summary>Optical-data and height-histogram CSVs: values in SI, and every bad input named by file, line and column.</summary>
-public sealed class SurfaceTablesTests
+public sealed class SurfaceTablesTests : TemporaryFolderTest
 {
-    private string _folder = "";
-
-    [SetUp]
-    public void MakeFolder()
-    {
-        _folder = Path.Combine(Path.GetTempPath(), "forcefit-tests", Guid.NewGuid().ToString("N"));
-        Directory.CreateDirectory(_folder);
-    }
-
-    [TearDown]
-    public void RemoveFolder() => Directory.Delete(_folder, recursive: true);
-
     private string Write(string name, string text)
     {
-        string path = Path.Combine(_folder, name);
+        string path = Path.Combine(Folder, name);
         File.WriteAllText(path, text);
         return path;
     }

@@ -10,26 +10,14 @@ using PureHDF;
 namespace ForceFit.Ingest.Tests.Steps;
 
 /// <summary>Readers of raw data: every bad input named by file, line and column; CSV and HDF5 agree.</summary>
-public sealed class SampleSourceTests
+public sealed class SampleSourceTests : TemporaryFolderTest
 {
-    private string _folder = "";
-
-    [SetUp]
-    public void MakeFolder()
-    {
-        _folder = Path.Combine(Path.GetTempPath(), "forcefit-tests", Guid.NewGuid().ToString("N"));
-        Directory.CreateDirectory(_folder);
-    }
-
-    [TearDown]
-    public void RemoveFolder() => Directory.Delete(_folder, recursive: true);
-
     private RunSettings Run(string csv)
     {
-        File.WriteAllText(Path.Combine(_folder, "run.csv"), csv);
+        File.WriteAllText(Path.Combine(Folder, "run.csv"), csv);
         string baseRun = File.ReadAllText(Path.Combine(MalformedRunFiles.Folder, "_base-run.txt")).Replace("../data/good.csv", "run.csv");
-        File.WriteAllText(Path.Combine(_folder, "run.toml"), baseRun);
-        return RunFileReader.ReadNight(Path.Combine(_folder, "run.toml")).Runs.Single();
+        File.WriteAllText(Path.Combine(Folder, "run.toml"), baseRun);
+        return RunFileReader.ReadNight(Path.Combine(Folder, "run.toml")).Runs.Single();
     }
 
     private static List<double[]> ReadAll(RunSettings run, out IReadOnlyList<string> warnings)
@@ -117,7 +105,7 @@ public sealed class SampleSourceTests
     public void Csv_and_hdf5_holding_the_same_numbers_give_identical_step_statistics()
     {
         var scenario = new Scenario { Runs = 1, Positions = 5, Biases = 3, StepDuration = 1.0, SampleRate = 200 };
-        string night = Path.Combine(_folder, "night");
+        string night = Path.Combine(Folder, "night");
         NightSimulator.Simulate(new SimulationRequest(night, scenario, 9, false, SimulationRequest.DefaultColumns(scenario.Mode, false)));
         RunSettings csvRun = RunFileReader.ReadNight(night).Runs.Single();
         // The same numbers, as written in the CSV (file units), into HDF5 datasets with unit attributes.
@@ -145,11 +133,11 @@ public sealed class SampleSourceTests
             ["t"] = new H5Dataset(new double[] { 0, 1 }) { Attributes = new() { ["unit"] = "ms" } },
             ["zp"] = new double[] { 1, 1 }, ["Ub"] = new double[] { 1, 1 }, ["f_pll"] = new double[] { 1, 1 },
         };
-        new H5File { ["raw"] = raw }.Write(Path.Combine(_folder, "run.h5"));
+        new H5File { ["raw"] = raw }.Write(Path.Combine(Folder, "run.h5"));
         string toml = File.ReadAllText(Path.Combine(MalformedRunFiles.Folder, "_base-run.txt")).Replace("../data/good.csv", "run.h5");
         foreach (string n in new[] { "t", "zp", "Ub", "f_pll" }) toml = toml.Replace($"name = \"{n}\"", $"name = \"raw/{n}\"");
-        File.WriteAllText(Path.Combine(_folder, "h5.toml"), toml);
-        RunSettings run = RunFileReader.ReadNight(Path.Combine(_folder, "h5.toml")).Runs.Single();
+        File.WriteAllText(Path.Combine(Folder, "h5.toml"), toml);
+        RunSettings run = RunFileReader.ReadNight(Path.Combine(Folder, "h5.toml")).Runs.Single();
         var e = Assert.Throws<InputException>(() => RunSteps.Read(run))!;
         Assert.That(e.Problems.Single().ToString(), Is.EqualTo($"{run.DataFile}: dataset 'raw/t' says unit 'ms', but {run.RunFile} maps it with unit 's'"));
     }
@@ -158,7 +146,7 @@ public sealed class SampleSourceTests
     public void Ramps_are_split_into_approach_and_retract_bins_at_each_bias()
     {
         var scenario = new Scenario { Runs = 1, Protocol = SimulatedProtocol.DistanceRamps, Biases = 3, SampleRate = 200, RampSpeed = 40e-9 };
-        string night = Path.Combine(_folder, "ramps");
+        string night = Path.Combine(Folder, "ramps");
         NightSimulator.Simulate(new SimulationRequest(night, scenario, 4, false, SimulationRequest.DefaultColumns(scenario.Mode, false)));
         RunSegments r = RunSteps.Read(RunFileReader.ReadNight(night).Runs.Single());
         var approach = r.Segments.Where(s => s.Kind == SegmentKind.Approach).ToArray();
