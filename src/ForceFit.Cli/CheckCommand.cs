@@ -9,7 +9,7 @@ namespace ForceFit.Cli;
 public static class CheckCommand
 {
     /// <summary>Runs the check.</summary>
-    public static int Run(string[] args, TextWriter output, TextWriter errors)
+    public static int Run(string[] args, TextWriter output)
     {
         if (args.Length != 1 || args[0].StartsWith('-'))
             throw new UsageException("check takes one argument: a night folder or a run's .toml file");
@@ -17,7 +17,6 @@ public static class CheckCommand
         output.Write(SettingsTable.Render(night));
         output.WriteLine();
         output.WriteLine($"ok: {night.Runs.Count} run(s) read; every mapped column was found in its data file");
-        _ = errors;
         return ExitCodes.Success;
     }
 }

@@ -40,9 +40,9 @@ public static class Commands
         {
             return args[0] switch
             {
-                "check" => CheckCommand.Run(args[1..], output, errors),
+                "check" => CheckCommand.Run(args[1..], output),
                 "theory" => TheoryCommand.Run(args[1..], output, errors),
-                "simulate" => SimulateCommand.Run(args[1..], output, errors),
+                "simulate" => SimulateCommand.Run(args[1..], output),
                 "help" or "--help" or "-h" => Help(output),
                 "version" or "--version" => Version(output),
                 _ => UsageFailure(errors, $"unknown command '{args[0]}'"),

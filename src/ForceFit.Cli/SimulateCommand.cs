@@ -23,14 +23,13 @@ public static class SimulateCommand
         ["correlated-noise", "readout-noise", "settling", "drift", "v0-variation", "piezo-scale", "gap-drift", "glitches", "dropped-samples"];
 
     /// <summary>Runs the command.</summary>
-    public static int Run(string[] args, TextWriter output, TextWriter errors)
+    public static int Run(string[] args, TextWriter output)
     {
         SimulationRequest request = Parse(args);
         NightTruth truth = NightSimulator.Simulate(request);
         long rows = truth.Runs.Sum(r => (long)r.Steps.Sum(s => (s.End - s.Start) * request.Scenario.SampleRate));
         output.WriteLine($"wrote {truth.Runs.Count} run(s), about {rows} samples, to {request.OutputFolder}");
         output.WriteLine($"truth: {NightSimulator.TruthPath(request.OutputFolder)}");
-        _ = errors;
         return ExitCodes.Success;
     }
 

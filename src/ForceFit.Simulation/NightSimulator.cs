@@ -151,7 +151,7 @@ public static class NightSimulator
             w.Append("deflection_sensitivity = \"auto\"\n");
             w.Append("deflection_free = \"auto\"\n");
         }
-        double referenceBeyond = s.Protocol == SimulatedProtocol.VoltageSteps ? 0.8 * s.EffectiveReferenceGap : 0.8 * s.EffectiveReferenceGap;
+        double referenceBeyond = 0.8 * s.EffectiveReferenceGap; // beyond 80% of the reference gap: force-free data
         w.Append($"reference_beyond = \"{Text.Q(Math.Round(referenceBeyond * 1e9) * 1e-9 - s.GapOffset, "nm")}\"\n\n");
         w.Append($"[sphere]\nradius = \"{Text.Q(s.Radius, 0.2e-6, "um")}\"\n\n");
         w.Append("[piezo]\nscale = \"1.000 ± 0.005\"\ndirection = \"away\"\n\n");

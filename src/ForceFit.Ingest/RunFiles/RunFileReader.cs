@@ -213,7 +213,6 @@ public static class RunFileReader
     private static TheoryInputs? ReadTheoryPart(TableReader top, TomlTableNode root, string file, bool measuredNight, List<Problem> problems)
     {
         int before = problems.Count;
-        TomlNode? titleNode = top.Node("title");
         string title = top.Text("title", required: false) ?? "";
 
         TomlTableNode? sphereTable = top.Table("sphere", required: true);
@@ -258,7 +257,7 @@ public static class RunFileReader
                     problems.Add(new Problem(list.Items[i].File, list.Items[i].Line, "theory must be written as [[theory]] tables"));
                     continue;
                 }
-                TheorySettings? t = ReadTheoryEntry(new TableReader(entry, $"[[theory]] number {i + 1}", file, problems), entry, materialsTable, materials, theories);
+                TheorySettings? t = ReadTheoryEntry(new TableReader(entry, $"[[theory]] number {i + 1}", file, problems), materialsTable, theories);
                 if (t is not null) theories.Add(t);
             }
         }
@@ -266,7 +265,6 @@ public static class RunFileReader
         {
             problems.Add(new Problem(theoryNode.File, theoryNode.Line, "theory must be written as [[theory]] tables, one per prediction"));
         }
-        _ = titleNode;
         if (problems.Count > before || sphere is null || surfaces is null) return null;
         return new TheoryInputs(title, sphere, surfaces, materials, theories);
     }
@@ -406,8 +404,7 @@ public static class RunFileReader
         return result;
     }
 
-    private static TheorySettings? ReadTheoryEntry(TableReader r, TomlTableNode entry, TomlTableNode? materialsTable,
-        Dictionary<string, MaterialSettings> materials, List<TheorySettings> earlier)
+    private static TheorySettings? ReadTheoryEntry(TableReader r, TomlTableNode? materialsTable, List<TheorySettings> earlier)
     {
         string? name = r.Text("name", required: true);
         string? sphere = r.Text("sphere", required: true);
@@ -428,8 +425,6 @@ public static class RunFileReader
             ok = false;
             r.Error(r.Node("name")!, $"name in {r.Label}: a theory named '{name}' is already defined");
         }
-        _ = entry;
-        _ = materials;
         return ok && name is not null && sphere is not null && plate is not null ? new TheorySettings(name, sphere, plate) : null;
     }
 

@@ -85,7 +85,7 @@ public sealed class CsvSampleSource : ISampleSource
             if (!_pending && !_reader.Read()) break;
             _pending = false;
             long line = _reader.LineNumber;
-            if (!ParseRecord(values, line, out string? problem))
+            if (!ParseRecord(values, out string? problem))
             {
                 // A bad record at the very end of a file that does not end with a line break is a truncated last
                 // line: dropped with a warning. Anywhere else it is an error.
@@ -110,11 +110,10 @@ public sealed class CsvSampleSource : ISampleSource
         return block.Count > 0;
     }
 
-    private bool ParseRecord(Span<double> values, long line, out string? problem)
+    private bool ParseRecord(Span<double> values, out string? problem)
     {
         ReadOnlySpan<byte> record = _reader.RawRecord;
         problem = null;
-        _ = line;
         if (ChunkParsing.Fast(record, _separator, _index, _fieldCount, values)) return true;
         if (record.IndexOf((byte)'"') < 0) return ChunkParsing.Careful(record, _separator, _index, _fieldCount, _names, values, out problem);
         // Quoted fields: CsvHelper unquotes them.

@@ -28,7 +28,6 @@ public static class FastNumber
         ulong mantissa = 0;
         int digits = 0, fraction = 0;
         uint d;
-        int start = i;
         while (i < end && (d = (uint)(s[i] - '0')) <= 9)
         {
             mantissa = mantissa * 10 + d;
@@ -53,7 +52,6 @@ public static class FastNumber
             value = negative ? -v : v;
             return true;
         }
-        _ = start;
         return double.TryParse(s, NumberStyles.Float, CultureInfo.InvariantCulture, out value);
     }
 }
