@@ -76,3 +76,23 @@ public sealed class NistLinearTests
         Assert.That(fit.Covariance[2, 2], Is.EqualTo(4.5).Within(1e-12));
     }
 }
+
+/// <summary>The copied reference files are the published ones.</summary>
+public sealed class NistFilesTests
+{
+    [Test]
+    public void Every_dat_file_matches_its_published_SHA256()
+    {
+        // SHA256SUMS came with the files; a re-saved file (changed line endings, trimmed spaces) fails here.
+        string folder = NistStrd.Folder;
+        var lines = File.ReadAllLines(Path.Combine(folder, "SHA256SUMS")).Where(l => l.Trim().Length > 0).ToArray();
+        Assert.That(lines, Has.Length.GreaterThanOrEqualTo(40));
+        foreach (string line in lines)
+        {
+            string[] parts = line.Split(' ', StringSplitOptions.RemoveEmptyEntries);
+            string name = parts[1].TrimStart('*');
+            byte[] hash = System.Security.Cryptography.SHA256.HashData(File.ReadAllBytes(Path.Combine(folder, name)));
+            Assert.That(Convert.ToHexStringLower(hash), Is.EqualTo(parts[0]), name);
+        }
+    }
+}

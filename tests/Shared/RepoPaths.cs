@@ -9,8 +9,11 @@ internal static class RepoPaths
     /// <summary>tests/corpus: hand-written inputs, good and malformed.</summary>
     public static string Corpus => Path.Combine(Root, "tests", "corpus");
 
-    /// <summary>The shared design and reference data beside the repository, if present.</summary>
-    public static string SharedReferenceData => Path.Combine(Root, "..", "shared", "reference-data");
+    /// <summary>
+    /// Reference data kept in the repository (tests/reference-data): the NIST StRD files, copied byte for byte
+    /// with their SHA-256 sums, so that the tests need nothing outside the checkout.
+    /// </summary>
+    public static string SharedReferenceData => Path.Combine(Root, "tests", "reference-data");
 
     private static string FindRoot()
     {
