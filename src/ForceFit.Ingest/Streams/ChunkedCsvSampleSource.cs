@@ -17,9 +17,9 @@ public sealed class ChunkedCsvSampleSource : ISampleSource
     private const int ChunkBytes = 8 << 20;
     private readonly string _file;
     private readonly FileStream _stream;
-    private readonly int[] _index = new int[4];
-    private readonly double[] _toSi = new double[4];
-    private readonly string[] _names = new string[4];
+    private readonly int[] _index;
+    private readonly double[] _toSi;
+    private readonly string[] _names;
     private readonly byte _separator;
     private readonly int _fieldCount;
     private readonly List<string> _warnings = [];
@@ -39,18 +39,13 @@ public sealed class ChunkedCsvSampleSource : ISampleSource
     public ChunkedCsvSampleSource(RunSettings run)
     {
         _file = run.DataFile;
-        DataFileHeader header = DataFileProbe.ReadHeader(_file);
-        IReadOnlyList<Problem> missing = DataFileProbe.CheckColumns(run);
-        if (missing.Count > 0) throw new InputException(missing);
-        ColumnSettings[] columns = MappedChannels.Of(run);
-        for (int c = 0; c < 4; c++)
-        {
-            _index[c] = header.Columns.ToList().IndexOf(columns[c].Name);
-            _toSi[c] = columns[c].Unit.ToSi;
-            _names[c] = columns[c].Name;
-        }
-        _fieldCount = header.Columns.Count;
-        _separator = (byte)header.Delimiter;
+        CsvLayout layout = CsvLayout.For(run);
+        DataFileHeader header = layout.Header;
+        _index = layout.Index;
+        _toSi = layout.ToSi;
+        _names = layout.Names;
+        _fieldCount = layout.FieldCount;
+        _separator = layout.Separator;
         _stream = new FileStream(_file, FileMode.Open, FileAccess.Read, FileShare.Read, 1 << 16);
         Length = _stream.Length;
         // Skip to the line after the header.

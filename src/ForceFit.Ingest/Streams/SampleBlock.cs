@@ -55,3 +55,32 @@ public static class MappedChannels
         return [run.Columns.Time, run.Columns.Piezo, run.Columns.Bias, signal];
     }
 }
+
+/// <summary>
+/// Where a run's four channels sit in a delimited file: the header (delimiter, columns, its line), each channel's
+/// column index, name and factor to SI. Building it checks that every mapped column exists.
+/// </summary>
+/// <param name="Header">The file's header.</param>
+/// <param name="Index">Column index of time, piezo, bias and signal.</param>
+/// <param name="ToSi">Factor to SI of each of the four.</param>
+/// <param name="Names">Column name of each of the four.</param>
+public sealed record CsvLayout(ForceFit.Ingest.Data.DataFileHeader Header, int[] Index, double[] ToSi, string[] Names)
+{
+    /// <summary>The delimiter as a byte.</summary>
+    public byte Separator => (byte)Header.Delimiter;
+
+    /// <summary>Fields per row.</summary>
+    public int FieldCount => Header.Columns.Count;
+
+    /// <summary>Reads the header of the run's data file and maps the channels; problems name the file and column.</summary>
+    public static CsvLayout For(ForceFit.Ingest.RunFiles.RunSettings run)
+    {
+        var header = ForceFit.Ingest.Data.DataFileProbe.ReadHeader(run.DataFile);
+        var missing = ForceFit.Ingest.Data.DataFileProbe.CheckColumns(run);
+        if (missing.Count > 0) throw new ForceFit.Core.Problems.InputException(missing);
+        var columns = MappedChannels.Of(run);
+        var names = header.Columns.ToList();
+        return new CsvLayout(header, columns.Select(c => names.IndexOf(c.Name)).ToArray(),
+            columns.Select(c => c.Unit.ToSi).ToArray(), columns.Select(c => c.Name).ToArray());
+    }
+}
