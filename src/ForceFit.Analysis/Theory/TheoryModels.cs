@@ -33,23 +33,14 @@ public sealed record PreparedTheory(string Name, LifshitzCalculator Calculator, 
         return new TheoryRow(Name, a, s.Pressure, s.FreeEnergy, s.Force, s.ForceGradient, s.ForceThirdDerivative, plates.PressureError);
     }
 
-    // Geometrical averaging (physics.md): every plate–plate quantity averaged over the local gap a − h.
+    // Geometrical averaging over the combined height distribution (SpherePlate.GeometricAverage); touching surfaces
+    // are an input problem of the histograms, reported before any theory is computed.
     private LifshitzResult GeometricallyAveraged(double a)
     {
-        double e = 0, p = 0, p1 = 0, p2 = 0, err = 0;
-        int terms = 0, evaluations = 0;
-        for (int i = 0; i < Heights!.HeightsMetres.Length; i++)
-        {
-            double local = a - Heights.HeightsMetres[i];
-            if (local <= 0) throw new InputException(new Problem("height histograms", null, $"the surfaces touch at a separation of {a * 1e9:G4} nm: the height distributions reach {Heights.HeightsMetres[i] * 1e9:G4} nm"));
-            LifshitzResult r = Calculator.At(local);
-            double v = Heights.Fractions[i];
-            e += v * r.FreeEnergy; p += v * r.Pressure; p1 += v * r.PressureDerivative; p2 += v * r.PressureSecondDerivative;
-            err += v * r.PressureError;
-            terms = Math.Max(terms, r.MatsubaraTerms);
-            evaluations += r.Evaluations;
-        }
-        return new LifshitzResult(e, p, p1, p2, 0, err, 0, 0, terms, evaluations);
+        double highest = Heights!.HeightsMetres.Max();
+        if (a - highest <= 0)
+            throw new InputException(new Problem("height histograms", null, $"the surfaces touch at a separation of {a * 1e9:G4} nm: the height distributions reach {highest * 1e9:G4} nm"));
+        return SpherePlate.GeometricAverage(Calculator.At, a, Heights.HeightsMetres.Zip(Heights.Fractions).ToArray());
     }
 }
 

@@ -46,18 +46,24 @@ public static class SpherePlate
     }
 
     /// <summary>
-    /// Geometrical averaging of f over a measured distribution of the local gap change h (the two surfaces'
-    /// height histograms convolved): Sum_i v_i f(a + h_i), with the fractions v_i summing to 1.
+    /// Geometrical averaging (physics.md, surface roughness): every plate–plate quantity averaged over the local gap
+    /// a − h, with h the combined height of the two surfaces toward each other and v its area fraction (fractions
+    /// summing to 1): E = Sum v E(a − h), and likewise P and its derivatives. The error estimates average too.
     /// </summary>
-    public static double GeometricAverage(Func<double, double> f, double a, IReadOnlyList<(double Height, double Fraction)> distribution)
+    public static LifshitzResult GeometricAverage(Func<double, LifshitzResult> plates, double a, IReadOnlyList<(double Height, double Fraction)> distribution)
     {
-        double sum = 0, total = 0;
+        double e = 0, p = 0, p1 = 0, p2 = 0, err = 0, total = 0;
+        int terms = 0, evaluations = 0;
         foreach ((double h, double v) in distribution)
         {
-            if (a + h <= 0) throw new ArgumentException($"the height distribution reaches contact at a = {a:G4} m");
-            sum += v * f(a + h);
+            if (a - h <= 0) throw new ArgumentException($"the height distribution reaches contact at a = {a:G4} m");
+            LifshitzResult r = plates(a - h);
+            e += v * r.FreeEnergy; p += v * r.Pressure; p1 += v * r.PressureDerivative; p2 += v * r.PressureSecondDerivative;
+            err += v * r.PressureError;
             total += v;
+            terms = Math.Max(terms, r.MatsubaraTerms);
+            evaluations += r.Evaluations;
         }
-        return sum / total;
+        return new LifshitzResult(e / total, p / total, p1 / total, p2 / total, 0, err / total, 0, 0, terms, evaluations);
     }
 }
