@@ -6,7 +6,9 @@ namespace ForceFit.Cli;
 /// <summary>Dispatches the verbs of the forcefit command; each verb calls one library method.</summary>
 public static class Commands
 {
-    private static readonly string Usage = UsageText.Replace("@simulate@", SimulateCommand.Help.TrimEnd('\n'), StringComparison.Ordinal);
+    private static readonly string Usage = UsageText
+        .Replace("@simulate@", SimulateCommand.Help.TrimEnd('\n'), StringComparison.Ordinal)
+        .Replace("@reduce@", ReduceCommand.Help.TrimEnd('\n'), StringComparison.Ordinal);
 
     private const string UsageText = """
         usage: forcefit <command> [options]
@@ -17,6 +19,7 @@ public static class Commands
           theory <night-folder | file.toml>  Lifshitz/PFA predictions for every [[theory]] as CSV:
               --from <length> --to <length> --count <n> [--spacing linear|log]
               or --at <length>,<length>,...;  --out <file.csv> (standard output without it)
+        @reduce@
         @simulate@
           help                                this text
           version                             the tool version
@@ -43,6 +46,7 @@ public static class Commands
                 "check" => CheckCommand.Run(args[1..], output),
                 "theory" => TheoryCommand.Run(args[1..], output, errors),
                 "simulate" => SimulateCommand.Run(args[1..], output),
+                "reduce" => ReduceCommand.Run(args[1..], output, errors),
                 "help" or "--help" or "-h" => Help(output),
                 "version" or "--version" => Version(output),
                 _ => UsageFailure(errors, $"unknown command '{args[0]}'"),

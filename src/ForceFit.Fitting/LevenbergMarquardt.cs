@@ -111,6 +111,86 @@ public static class LevenbergMarquardt
         return new FitResult(p, covariance, chi2, dof, iteration, stop);
     }
 
+    /// <summary>
+    /// Generalised least squares: minimises (y − f(p))^T C^-1 (y − f(p)) for observations with a full covariance C,
+    /// by whitening with the Cholesky factor C = L L^T (residuals L^-1 (y − f)) and the Levenberg–Marquardt fit above
+    /// on unit sigmas; the covariance is then (J^T C^-1 J)^-1 and chi-square the generalised one. The model gives all
+    /// n values at once; its Jacobian is taken by central differences of the whole vector.
+    /// </summary>
+    public static FitResult FitCorrelated(Func<double[], double[]> model, IReadOnlyList<double> y, double[,] covariance, double[] start, FitOptions? options = null)
+    {
+        int n = y.Count, k = start.Length;
+        double[,] l = Matrices.CholeskyLower(covariance);
+        for (int i = 0; i < n; i++) if (!(l[i, i] > 0)) throw new ArgumentException($"the covariance of observation {i} is not positive definite");
+        double[] Whiten(IReadOnlyList<double> v)
+        {
+            var z = new double[n];
+            for (int i = 0; i < n; i++)
+            {
+                double sum = v[i];
+                for (int c = 0; c < i; c++) sum -= l[i, c] * z[c];
+                z[i] = sum / l[i, i];
+            }
+            return z;
+        }
+        double[] yw = Whiten(y);
+        double[]? lastP = null, lastValue = null, lastJacobianP = null;
+        double[,]? lastJacobian = null;
+        double[] ValueAt(double[] p)
+        {
+            if (lastP is null || !lastP.AsSpan().SequenceEqual(p)) { lastP = (double[])p.Clone(); lastValue = Whiten(model(p)); }
+            return lastValue!;
+        }
+        double[,] JacobianAt(double[] p)
+        {
+            if (lastJacobianP is not null && lastJacobianP.AsSpan().SequenceEqual(p)) return lastJacobian!;
+            var jac = new double[n, k];
+            var q = (double[])p.Clone();
+            for (int j = 0; j < k; j++)
+            {
+                double h = 6e-6 * Math.Max(Math.Abs(p[j]), 1e-8);
+                q[j] = p[j] + h;
+                double[] up = Whiten(model(q));
+                q[j] = p[j] - h;
+                double[] down = Whiten(model(q));
+                q[j] = p[j];
+                for (int i = 0; i < n; i++) jac[i, j] = (up[i] - down[i]) / (2 * h);
+            }
+            lastJacobianP = (double[])p.Clone();
+            lastJacobian = jac;
+            return jac;
+        }
+        var whitened = new NonlinearModel((x, p) => ValueAt(p)[(int)x], (x, p, g) =>
+        {
+            double[,] jac = JacobianAt(p);
+            for (int j = 0; j < k; j++) g[j] = jac[(int)x, j];
+        });
+        var xs = Enumerable.Range(0, n).Select(i => (double)i).ToArray();
+        return Fit(whitened, xs, yw, start, Enumerable.Repeat(1.0, n).ToArray(), options);
+    }
+
+    /// <summary>The unweighted Jacobian df(x_i)/dp_j at p (analytic when the model has one, else central differences).</summary>
+    public static double[,] Jacobian(NonlinearModel model, IReadOnlyList<double> x, double[] p)
+    {
+        var j = Matrix<double>.Build.Dense(x.Count, p.Length);
+        Jacobian(model, x, Enumerable.Repeat(1.0, x.Count).ToArray(), p, j);
+        return j.ToArray();
+    }
+
+    /// <summary>
+    /// The linear estimator of a weighted least-squares fit at its solution: dp/dy = (J^T W J)^-1 J^T W with
+    /// W = diag(1/sigma^2). With it the covariance of the parameters under any covariance C of the data is
+    /// S C S^T (the "sandwich"), which stays right when the data are correlated but were fitted with diagonal weights.
+    /// </summary>
+    public static double[,] Estimator(double[,] jacobian, IReadOnlyList<double> sigma)
+    {
+        int n = jacobian.GetLength(0), k = jacobian.GetLength(1);
+        var jw = new double[n, k];
+        for (int i = 0; i < n; i++) for (int c = 0; c < k; c++) jw[i, c] = jacobian[i, c] / (sigma[i] * sigma[i]);
+        double[,] fisher = Matrices.Multiply(Matrices.Transpose(jacobian), jw);
+        return Matrices.Multiply(Matrices.InverseSymmetric(fisher), Matrices.Transpose(jw));
+    }
+
     // A point where no step along the damped directions lowers chi-square by more than rounding: relative change 1e-14.
     private static bool IsStationary(NonlinearModel model, IReadOnlyList<double> x, IReadOnlyList<double> y, double[] w, double[] p, double chi2)
     {

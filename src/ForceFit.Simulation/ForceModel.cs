@@ -1,51 +1,9 @@
 using ForceFit.Theory.Electrostatics;
 using ForceFit.Theory.Geometry;
 using ForceFit.Theory.Lifshitz;
+using ForceFit.Theory.Numerics;
 
 namespace ForceFit.Simulation;
-
-/// <summary>
-/// A function of the gap tabulated with its derivative on log-spaced nodes and read back by cubic Hermite
-/// interpolation (error O(h^4), about 1e-12 relative with the default spacing).
-/// </summary>
-public sealed class HermiteTable
-{
-    private readonly double _logLow, _step;
-    private readonly double[] _x, _f, _df;
-
-    /// <summary>Tabulates f and its derivative over [low, high] on <paramref name="nodes"/> log-spaced gaps.</summary>
-    public HermiteTable(double low, double high, int nodes, Func<double, (double F, double Df)> function)
-    {
-        _logLow = Math.Log(low);
-        _step = (Math.Log(high) - _logLow) / (nodes - 1);
-        _x = new double[nodes];
-        _f = new double[nodes];
-        _df = new double[nodes];
-        double[] x = _x, f = _f, df = _df;
-        Parallel.For(0, nodes, i =>
-        {
-            x[i] = Math.Exp(_logLow + i * _step);
-            (f[i], df[i]) = function(x[i]);
-        });
-    }
-
-    /// <summary>Lowest tabulated gap.</summary>
-    public double Low => _x[0];
-
-    /// <summary>Highest tabulated gap.</summary>
-    public double High => _x[^1];
-
-    /// <summary>The interpolated value at gap a (must lie inside the table).</summary>
-    public double At(double a)
-    {
-        if (!(a >= _x[0] && a <= _x[^1])) throw new ArgumentOutOfRangeException(nameof(a), $"gap {a:G4} m is outside the simulator's table [{_x[0]:G4}, {_x[^1]:G4}] m");
-        int i = Math.Min(_x.Length - 2, (int)((Math.Log(a) - _logLow) / _step));
-        double x0 = _x[i], x1 = _x[i + 1], h = x1 - x0, t = (a - x0) / h;
-        double t2 = t * t, t3 = t2 * t;
-        // Cubic Hermite basis.
-        return (2 * t3 - 3 * t2 + 1) * _f[i] + (t3 - 2 * t2 + t) * h * _df[i] + (-2 * t3 + 3 * t2) * _f[i + 1] + (t3 - t2) * h * _df[i + 1];
-    }
-}
 
 /// <summary>
 /// The forces the simulated sphere feels: Casimir (Lifshitz + PFA with the chosen theory) and exact
@@ -123,28 +81,5 @@ public sealed class ForceModel
             if (Math.Abs(step) <= 1e-16 * Math.Max(Math.Abs(x), 1e-18)) break;
         }
         return x;
-    }
-}
-
-/// <summary>
-/// The force gradient sensed by an oscillator of amplitude A at mean gap a: &lt;F'&gt; = (2/pi) Integral_{-1}^{1}
-/// F'(a + A u) sqrt(1 − u^2) du, equivalent by parts to the first-order frequency shift
-/// −(f0/(pi k A)) Integral F(a + A u) u / sqrt(1 − u^2) du (F. J. Giessibl, Phys. Rev. B 56, 16010 (1997));
-/// it reduces to F' + (A^2/8) F''' for small A (physics.md).
-/// </summary>
-public static class AmplitudeAverage
-{
-    // Gauss–Chebyshev rule of the second kind: Integral_{-1}^{1} f(u) sqrt(1 − u^2) du = Sum w_i f(u_i),
-    // u_i = cos(i pi/(n+1)), w_i = pi/(n+1) sin^2(i pi/(n+1)) (Abramowitz & Stegun 25.4.40).
-    private const int Nodes = 48;
-    private static readonly double[] U = Enumerable.Range(1, Nodes).Select(i => Math.Cos(i * Math.PI / (Nodes + 1))).ToArray();
-    private static readonly double[] W = Enumerable.Range(1, Nodes).Select(i => Math.PI / (Nodes + 1) * Math.Pow(Math.Sin(i * Math.PI / (Nodes + 1)), 2)).ToArray();
-
-    /// <summary>&lt;F'&gt; for a gradient function, mean gap and amplitude.</summary>
-    public static double Gradient(Func<double, double> gradient, double a, double amplitude)
-    {
-        double sum = 0;
-        for (int i = 0; i < Nodes; i++) sum += W[i] * gradient(a + amplitude * U[i]);
-        return 2 / Math.PI * sum;
     }
 }

@@ -67,10 +67,14 @@ public static class NightSimulator
             ? new PlasmaModel(s.PlasmaFrequencyEv * ev)
             : new DrudeModel(s.PlasmaFrequencyEv * ev, s.DampingEv * ev);
         var geometry = new SpherePlateGeometry(s.Radius, 0, 0, s.SphereRoughness * s.SphereRoughness + s.PlateRoughness * s.PlateRoughness);
-        var casimir = new LifshitzCalculator(gold, gold, s.Temperature);
         double low = Math.Max(10e-9, s.NearestGap * 0.5 - s.Amplitude * 2);
-        var forces = new ForceModel(casimir, geometry, low, s.EffectiveReferenceGap * 1.2 + 200e-9);
+        double high = s.EffectiveReferenceGap * 1.2 + 200e-9;
+        // The force tables depend only on the physics, not on the seed: nights of one scenario share them.
+        var key = new ForceKey(s.TruthTheory.ToLowerInvariant(), s.PlasmaFrequencyEv, s.DampingEv, s.Temperature, geometry, low, high);
+        ForceModel forces = ForceTables.GetOrAdd(key, _ => new ForceModel(new LifshitzCalculator(gold, gold, s.Temperature), geometry, low, high));
 
+        // One piezo per night: its true scale is drawn once from the stated 1 ± sigma.
+        double piezoScale = s.Imperfections.PiezoScaleError ? 1 + s.PiezoScaleSigma * random.Fork(1000).NextGaussian() : 1.0;
         var runs = new List<RunTruthWithSteps>();
         for (int r = 0; r < s.Runs; r++)
         {
@@ -80,7 +84,7 @@ public static class NightSimulator
             var truth = new RunTruth(
                 name,
                 s.GapOffset + 4e-9 * runRandom.NextGaussian(),
-                s.Imperfections.PiezoScaleError ? s.PiezoScale : 1.0,
+                piezoScale,
                 s.EffectiveSpringConstant,
                 s.FreeFrequency + 0.05 * runRandom.NextGaussian(),
                 s.DeflectionSensitivity,
@@ -119,6 +123,10 @@ public static class NightSimulator
         return night;
     }
 
+    private sealed record ForceKey(string Theory, double PlasmaEv, double DampingEv, double Temperature, SpherePlateGeometry Geometry, double Low, double High);
+
+    private static readonly System.Collections.Concurrent.ConcurrentDictionary<ForceKey, ForceModel> ForceTables = new();
+
     /// <summary>Options of the truth file: indented, enums as words, non-finite numbers allowed.</summary>
     public static JsonSerializerOptions JsonOptions { get; } = new()
     {
@@ -154,7 +162,7 @@ public static class NightSimulator
         double referenceBeyond = 0.8 * s.EffectiveReferenceGap; // beyond 80% of the reference gap: force-free data
         w.Append($"reference_beyond = \"{Text.Q(Math.Round(referenceBeyond * 1e9) * 1e-9 - s.GapOffset, "nm")}\"\n\n");
         w.Append($"[sphere]\nradius = \"{Text.Q(s.Radius, 0.2e-6, "um")}\"\n\n");
-        w.Append("[piezo]\nscale = \"1.000 ± 0.005\"\ndirection = \"away\"\n\n");
+        w.Append($"[piezo]\nscale = \"1.000 ± {Text.N(s.PiezoScaleSigma)}\"\ndirection = \"away\"\n\n");
         w.Append("[surfaces]\n");
         w.Append($"temperature = \"{Text.Q(s.Temperature, 0.5, "K")}\"\n");
         w.Append($"sphere_roughness = \"{Text.Q(s.SphereRoughness, "nm")}\"\n");

@@ -24,7 +24,7 @@ public enum SimulatedProtocol
 /// <param name="Settling">First-order lag of the signal after every change (tracking loop or electronics).</param>
 /// <param name="FreeFrequencyDrift">Linear and random-walk drift of f0 (frequency mode) or of S_free (deflection).</param>
 /// <param name="ResidualPotentialVariation">V0 varying with gap and with time.</param>
-/// <param name="PiezoScaleError">True piezo scale differs from the nominal 1.</param>
+/// <param name="PiezoScaleError">True piezo scale drawn from the stated 1 ± sigma instead of exactly 1.</param>
 /// <param name="GapDrift">Slow drift of the gap offset.</param>
 /// <param name="Glitches">Occasional spikes in the signal.</param>
 /// <param name="DroppedSamples">Occasional missing rows.</param>
@@ -90,8 +90,11 @@ public sealed record Scenario
 
     /// <summary>Gap offset z0 (m): the gap at piezo reading 0.</summary>
     public double GapOffset { get; init; } = 80e-9;
-    /// <summary>True piezo scale (the run file states 1 with its uncertainty).</summary>
-    public double PiezoScale { get; init; } = 1.004;
+    /// <summary>
+    /// Standard uncertainty of the piezo scale. The run file states "1.000 ± sigma"; with the imperfection on, the
+    /// true scale of each night is drawn from that distribution (so pulls over many nights test its propagation).
+    /// </summary>
+    public double PiezoScaleSigma { get; init; } = 0.005;
     /// <summary>Residual potential V0 (V) at the reference gap.</summary>
     public double ResidualPotential { get; init; } = 0.021;
     /// <summary>Change of V0 with gap (V/m).</summary>

@@ -45,14 +45,15 @@ public sealed class SimulatorTests : TemporaryFolderTest
     [Test]
     public void The_truth_file_lies_beside_the_nightFolder_and_holds_what_was_injected()
     {
-        Scenario s = Small() with { ResidualPotential = 0.033, PiezoScale = 1.007 };
+        Scenario s = Small() with { ResidualPotential = 0.033, PiezoScaleSigma = 0.02 };
         NightTruth written = Simulate("night", s, 5);
         Assert.That(Directory.GetFiles(Path.Combine(Folder, "night")).Select(Path.GetFileName).Order(), Is.EqualTo(new[] { "night.toml", "run-01.csv", "run-01.toml" }));
         NightTruth read = NightSimulator.ReadTruth(Path.Combine(Folder, "night.truth.json"));
         Assert.That(read.Seed, Is.EqualTo(5UL));
         Assert.That(read.Scenario, Is.EqualTo(s));
         Assert.That(read.Runs.Single().Run, Is.EqualTo(written.Runs.Single().Run));
-        Assert.That(read.Runs.Single().Run.PiezoScale, Is.EqualTo(1.007));
+        Assert.That(read.Runs.Single().Run.PiezoScale, Is.EqualTo(written.Runs.Single().Run.PiezoScale));
+        Assert.That(read.Runs.Single().Run.PiezoScale, Is.Not.EqualTo(1.0).And.EqualTo(1.0).Within(0.1), "the true scale is drawn from 1 ± 0.02");
         Assert.That(read.Runs.Single().Steps, Is.EqualTo(written.Runs.Single().Steps));
     }
 

@@ -31,9 +31,10 @@ public enum SegmentKind
 /// <param name="SamplesKept">Samples used (after the settle time, without clipped glitches).</param>
 /// <param name="Clipped">Samples removed as glitches (beyond 10 robust sigmas of the step).</param>
 /// <param name="FirstLine">Line (CSV) or index (HDF5) of the first sample.</param>
+/// <param name="MeanTime">Mean time of the kept samples (s): where a drifting free signal is read for this step.</param>
 public sealed record SegmentStatistics(
     string Run, int Index, SegmentKind Kind, double Start, double End, double Piezo, double Bias,
-    double Mean, double Sigma, double NaiveSigma, int SamplesKept, int Clipped, long FirstLine);
+    double Mean, double Sigma, double NaiveSigma, int SamplesKept, int Clipped, long FirstLine, double MeanTime);
 
 /// <summary>A run reduced to steps or bins, with its noise model and any warnings.</summary>
 /// <param name="Run">The run's settings.</param>
@@ -82,7 +83,7 @@ public static class RunSteps
         NoiseModel model = noise.Build() ?? throw new InputException(new Problem(run.DataFile, null,
             "too few samples after the settle time to estimate the noise: are the steps shorter than 'settle'?"));
         var segments = pending.Select((r, i) => new SegmentStatistics(run.Name, i, r.Kind, r.Start, r.End, r.Piezo, r.Bias, r.Mean,
-            model.SigmaOfMean(r.N), r.NaiveSigma, r.N, r.Clipped, r.FirstLine)).ToArray();
+            model.SigmaOfMean(r.N), r.NaiveSigma, r.N, r.Clipped, r.FirstLine, r.MeanTime)).ToArray();
         if (!model.WindowConverged)
             warnings.Add($"{run.DataFile}: the signal's correlation time ({model.IntegratedTime:F0} samples) needs a longer window than the {MaxLag} lags computed; the step uncertainties may be too small");
         int clipped = segments.Sum(s => s.Clipped);
@@ -91,7 +92,7 @@ public static class RunSteps
     }
 
     /// <summary>A closed step or bin before its sigma is known.</summary>
-    internal sealed record Raw(SegmentKind Kind, double Start, double End, double Piezo, double Bias, double Mean, double NaiveSigma, int N, int Clipped, long FirstLine);
+    internal sealed record Raw(SegmentKind Kind, double Start, double End, double Piezo, double Bias, double Mean, double NaiveSigma, int N, int Clipped, long FirstLine, double MeanTime);
 
     internal abstract class Segmenter(RunSettings run, StepThresholds thresholds, List<Raw> output, NoiseModel.Accumulator noise)
     {
@@ -194,7 +195,7 @@ public static class RunSteps
             double start = _t[0];
             List<double> kept = _kept;
             kept.Clear();
-            double sumP = 0, sumV = 0;
+            double sumP = 0, sumV = 0, sumT = 0;
             int first = -1;
             for (int i = 0; i < count; i++)
             {
@@ -203,12 +204,13 @@ public static class RunSteps
                 kept.Add(_s[i]);
                 sumP += _p[i];
                 sumV += _v[i];
+                sumT += _t[i];
             }
             if (kept.Count == 0) return; // a step shorter than the settle time holds nothing to keep
             (double mean, double naive, int n, int clipped) = Summarise(kept);
             double piezo = sumP / kept.Count;
             Output.Add(new Raw(IsReference(piezo) ? SegmentKind.Reference : SegmentKind.Step, start, _t[count - 1], piezo, sumV / kept.Count,
-                mean, naive, n, clipped, _lines[0]));
+                mean, naive, n, clipped, _lines[0], sumT / kept.Count));
         }
     }
 
@@ -308,7 +310,7 @@ public static class RunSteps
                 var values = idx.Select(i => _segment[i].S).ToList();
                 (double mean, double naive, int n, int clipped) = Summarise(values, k => slope * (_segment[idx[k]].P - meanP));
                 Output.Add(new Raw(IsReference(meanP) ? SegmentKind.Reference : kind, _segment[idx[0]].T, _segment[idx[^1]].T, meanP,
-                    idx.Average(i => _segment[i].V), mean, naive, n, clipped, _segment[idx[0]].Line));
+                    idx.Average(i => _segment[i].V), mean, naive, n, clipped, _segment[idx[0]].Line, idx.Average(i => _segment[i].T)));
             }
         }
     }

@@ -1,0 +1,577 @@
+using ForceFit.Core.Problems;
+using ForceFit.Core.Units;
+using ForceFit.Fitting;
+using ForceFit.Ingest.RunFiles;
+using ForceFit.Ingest.Steps;
+using ForceFit.Theory.Electrostatics;
+
+namespace ForceFit.Analysis.Reduction;
+
+/// <summary>The physical constants a run's reduction depends on (SI), varied one at a time for the systematic budget.</summary>
+/// <param name="Scale">Piezo scale s.</param>
+/// <param name="Radius">Sphere radius R.</param>
+/// <param name="Amplitude">Oscillation amplitude A (frequency mode).</param>
+/// <param name="SpringConstant">k when given, else null (fitted).</param>
+/// <param name="Sensitivity">m when given, else null (fitted or from k).</param>
+internal sealed record RunConstants(double Scale, double Radius, double Amplitude, double? SpringConstant, double? Sensitivity);
+
+/// <summary>
+/// Reduces one run's steps (voltage-steps protocol) to a calibrated force gradient or force per piezo position
+/// (physics.md): free signal f0(t) or S_free(t) from reference steps; the signal turned into the linear observable
+/// y = 1 − (f/f0)^2 = F'_eff/k or u = S − S_free = −F/(k m); a bias parabola per position; the electrostatic
+/// calibration of z0 and k (and m); the amplitude correction; and every error propagated linearly from the steps'
+/// covariance (noise, shared reference errors, random walk of the free signal) through the whole chain.
+/// </summary>
+public static class RunReducer
+{
+    private const int OuterIterations = 3;
+
+    /// <summary>Reduces one run; throws <see cref="InputException"/> when the data cannot give a calibration.</summary>
+    public static RunResult Reduce(RunSegments segments)
+    {
+        RunSettings run = segments.Run;
+        if (run.Protocol != Protocol.VoltageSteps)
+            throw new InputException(new Problem(run.RunFile, null, "protocol 'distance-ramps': the reduction of ramps is not available in this version; steps.csv can be written with 'forcefit check'"));
+        var nominal = Constants(run);
+        var warnings = new List<string>();
+        Core core = Compute(segments, nominal, null, warnings);
+        var sources = new List<SystematicSource> { core.CalibrationSource };
+        void Vary(string name, Func<RunConstants, double, RunConstants> with, double sigma, bool shared)
+        {
+            if (!(sigma > 0)) return;
+            Core up = Compute(segments, with(nominal, +sigma), core, null);
+            Core down = Compute(segments, with(nominal, -sigma), core, null);
+            sources.Add(Difference(name, core, up, down, shared));
+        }
+        // The piezo scale is fitted with its statement as a prior, so its uncertainty is inside the calibration's.
+        Vary("radius", (c, d) => c with { Radius = c.Radius + d }, run.Theory.Sphere.Radius.Sigma, true);
+        if (run.Instrument.Mode == InstrumentMode.FrequencyShift)
+            Vary("amplitude", (c, d) => c with { Amplitude = Math.Max(0, c.Amplitude + d) }, run.Instrument.Amplitude.Sigma, true);
+        if (run.Instrument.SpringConstant is { } k) Vary("spring constant (given)", (c, d) => c with { SpringConstant = k.Value + d }, k.Sigma, false);
+        if (run.Instrument.DeflectionSensitivity is { } m) Vary("deflection sensitivity (given)", (c, d) => c with { Sensitivity = m.Value + d }, m.Sigma, false);
+
+        Estimate Total(double value, double statistical, Func<SystematicSource, double[]> part) =>
+            new(value, Math.Sqrt(statistical * statistical + sources.Skip(1).Sum(s => part(s).Sum(v => v * v))), statistical);
+        var calibration = core.Calibration with
+        {
+            GapOffset = Total(core.Calibration.GapOffset.Value, core.Calibration.GapOffset.StatisticalSigma, s => s.GapOffset),
+            SpringConstant = Total(core.Calibration.SpringConstant.Value, core.Calibration.SpringConstant.StatisticalSigma, s => s.SpringConstant),
+            Sensitivity = core.Calibration.Sensitivity is { } sens ? Total(sens.Value, sens.StatisticalSigma, s => s.Sensitivity) : null,
+        };
+        warnings.AddRange(core.Warnings);
+        return new RunResult(run.Name, calibration, core.Positions, core.Separation, core.Value, core.PointTime, core.RandomCovariance, sources,
+            core.Track, core.ResidualPotentialCovariance, core.AmplitudeCorrection, warnings);
+    }
+
+    private static RunConstants Constants(RunSettings run) => new(
+        run.Piezo.Scale.Value, run.Theory.Sphere.Radius.Value, run.Instrument.Mode == InstrumentMode.FrequencyShift ? run.Instrument.Amplitude.Value : 0,
+        run.Instrument.SpringConstant?.Value, run.Instrument.DeflectionSensitivity?.Value);
+
+    // The one-sigma effect of a constant by central differences of the whole reduction at fixed separations.
+    private static SystematicSource Difference(string name, Core nominal, Core up, Core down, bool shared)
+    {
+        int n = nominal.Value.Length;
+        var row = new double[n];
+        for (int i = 0; i < n; i++)
+        {
+            // Value at the nominal separation: shift along the local slope by the change of the separation.
+            double Moved(Core c) => c.Value[i] - nominal.Slope[i] * (c.Separation[i] - nominal.Separation[i]);
+            row[i] = (Moved(up) - Moved(down)) / 2;
+        }
+        double Half(Func<Core, double> f) => (f(up) - f(down)) / 2;
+        return new SystematicSource(name, [row], [Half(c => c.Calibration.GapOffset.Value)], [Half(c => c.Calibration.SpringConstant.Value)],
+            [nominal.Calibration.Sensitivity is null ? 0 : Half(c => c.Calibration.Sensitivity!.Value)], shared);
+    }
+
+    /// <summary>Everything computed for one set of constants.</summary>
+    private sealed record Core(RunCalibration Calibration, PositionFit[] Positions, double[] Separation, double[] Value, double[] Slope, double[] PointTime,
+        double[,] RandomCovariance, SystematicSource CalibrationSource, FreeSignalTrack Track, double[,] ResidualPotentialCovariance,
+        double[] AmplitudeCorrection, CurveShape Shape, IReadOnlyList<string> Warnings);
+
+    /// <summary>A step ready for fitting.</summary>
+    /// <param name="Time">Mean time of the kept samples (s).</param>
+    /// <param name="Piezo">Recorded piezo reading (m): the position's mean once grouped.</param>
+    /// <param name="Bias">Mean recorded bias (V).</param>
+    /// <param name="Signal">Mean signal.</param>
+    /// <param name="SignalSigma">Its uncertainty from the correlated-noise model.</param>
+    /// <param name="Samples">Samples kept.</param>
+    /// <param name="BiasSigma">Uncertainty of the step's mean recorded bias (readout noise / sqrt(samples)).</param>
+    /// <param name="PiezoSigma">Uncertainty of the position's mean recorded piezo reading, shared by its steps.</param>
+    private sealed record StepPoint(double Time, double Piezo, double Bias, double Signal, double SignalSigma, int Samples, double BiasSigma = 0, double PiezoSigma = 0);
+
+    private static Core Compute(RunSegments segments, RunConstants c, Core? start, List<string>? warnings)
+    {
+        RunSettings run = segments.Run;
+        bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
+        var steps = segments.Segments.Where(s => s.Kind == SegmentKind.Step).Select(s => new StepPoint(s.MeanTime, s.Piezo, s.Bias, s.Mean, s.Sigma, s.SamplesKept,
+            segments.Thresholds.BiasNoise / Math.Sqrt(s.SamplesKept))).ToArray();
+        var references = segments.Segments.Where(s => s.Kind == SegmentKind.Reference).ToArray();
+        int[][] groups = Positions(steps, segments.Thresholds, run, warnings);
+        // Keep only the steps of usable positions, re-indexed.
+        int[] usedSteps = groups.SelectMany(g => g).Order().ToArray();
+        var newIndex = new Dictionary<int, int>();
+        for (int i = 0; i < usedSteps.Length; i++) newIndex[usedSteps[i]] = i;
+        steps = usedSteps.Select(i => steps[i]).ToArray();
+        groups = groups.Select(g => g.Select(i => newIndex[i]).ToArray()).ToArray();
+        // The commanded piezo is constant at a position: every step gets the position's mean recorded reading, whose
+        // readout error (noise / sqrt(all its samples)) is shared by the position's steps.
+        foreach (int[] members in groups)
+        {
+            long total = members.Sum(i => (long)steps[i].Samples);
+            double mean = members.Sum(i => steps[i].Piezo * steps[i].Samples) / total;
+            double sigma = segments.Thresholds.PiezoNoise / Math.Sqrt(total);
+            foreach (int i in members) steps[i] = steps[i] with { Piezo = mean, PiezoSigma = sigma };
+        }
+        if (groups.Length < 3)
+            throw new InputException(new Problem(run.DataFile, null, $"only {groups.Length} piezo position(s) with at least three biases: the calibration needs three or more"));
+        Measurement? givenFree = frequency ? run.Instrument.FreeFrequency : run.Instrument.DeflectionFree;
+        if (givenFree is null && references.Length == 0)
+            throw new InputException(new Problem(run.RunFile, null,
+                $"[instrument] reference_beyond: no reference steps beyond {(run.Instrument.ReferenceBeyond is { } rb ? rb.Value * 1e9 + " nm" : "'reference_beyond'")}: the free {(frequency ? "frequency" : "deflection signal")} cannot be found; give reference steps or state '{(frequency ? "free_frequency" : "deflection_free")}'"));
+        var electrostatics = ElectrostaticTable.For(c.Radius);
+        int sign = run.Piezo.Sign;
+        double scaleSigma = run.Piezo.Scale.Sigma;
+        // A variation of the constants starts from the nominal reduction's free signal and curve shape: one pass.
+        FreeSignalTrack track = start?.Track ?? (givenFree is { } g ? FreeSignalTrack.Given(g.Value, g.Sigma) : FreeSignalTrack.FromReferences(
+            references.Select(r => new FreeSignalPoint(r.MeanTime, r.Mean, r.Sigma)).ToArray()));
+        CurveShape? shape = start?.Shape;
+        State state = default!;
+        int passes = start is null ? OuterIterations : 1;
+        for (int outer = 0; outer < passes; outer++)
+        {
+            state = GlobalPass(steps, groups, track, c, electrostatics, sign, scaleSigma, shape, frequency);
+            shape = state.Shape;
+            if (givenFree is null && start is null)
+                track = FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
+                    CorrectedReference(r, state, c, electrostatics, sign, frequency), r.Sigma)).ToArray());
+        }
+        if (warnings is not null)
+        {
+            if (!state.Calibration.Converged)
+                warnings.Add($"{run.Name}: the electrostatic calibration did not converge ({state.Calibration.Stop}); its results cannot be trusted");
+            else if (state.Calibration.DegreesOfFreedom > 0 && state.Calibration.PValue < 1e-3)
+                warnings.Add($"{run.Name}: the electrostatic calibration fits poorly (chi2 = {state.Calibration.ChiSquare:F1} for {state.Calibration.DegreesOfFreedom} degrees of freedom, p = {state.Calibration.PValue:G2})");
+        }
+        return state.ToCore(track, warnings ?? []);
+    }
+
+    /// <summary>The outcome of one pass.</summary>
+    private sealed record State(RunCalibration Calibration0, FitResult Calibration, PositionFit[] Positions, double[] Separation, double[] Value, double[] Slope,
+        double[] PointTime, double[,] RandomCovariance, SystematicSource CalibrationSource, double[,] ResidualPotentialCovariance, double[] AmplitudeCorrection,
+        CurveShape Shape, double GapOffset, double Kappa, double Sensitivity, double Scale)
+    {
+        public Core ToCore(FreeSignalTrack track, IReadOnlyList<string> warnings) => new(Calibration0, Positions, Separation, Value, Slope, PointTime,
+            RandomCovariance, CalibrationSource, track, ResidualPotentialCovariance, AmplitudeCorrection, Shape, warnings);
+    }
+
+    // Groups the steps by piezo reading (readings closer than the step threshold are one position) and keeps the
+    // positions with at least three distinct biases; positions ordered by reading.
+    private static int[][] Positions(StepPoint[] steps, StepThresholds thresholds, RunSettings run, List<string>? warnings)
+    {
+        int[] order = Enumerable.Range(0, steps.Length).OrderBy(i => steps[i].Piezo).ToArray();
+        var groups = new List<List<int>>();
+        foreach (int i in order)
+        {
+            if (groups.Count == 0 || steps[i].Piezo - steps[groups[^1][^1]].Piezo > thresholds.Piezo) groups.Add([]);
+            groups[^1].Add(i);
+        }
+        var kept = new List<int[]>();
+        foreach (List<int> group in groups)
+        {
+            double[] biases = group.Select(i => steps[i].Bias).Order().ToArray();
+            int distinct = 1 + Enumerable.Range(1, biases.Length - 1).Count(k => biases[k] - biases[k - 1] > thresholds.Bias);
+            if (distinct >= 3) kept.Add(group.OrderBy(i => steps[i].Time).ToArray());
+            else warnings?.Add($"{run.DataFile}: the position at piezo {steps[group[0]].Piezo * 1e9:F1} nm has {distinct} distinct bias(es); a parabola needs three, so it was left out");
+        }
+        return kept.ToArray();
+    }
+
+    private static double CorrectedReference(SegmentStatistics r, State s, RunConstants c, ElectrostaticTable e, int sign, bool frequency)
+    {
+        // The reference gap still feels the electrostatic force of (V − V0(a_ref))^2, with V0 extrapolated along its
+        // fitted gap trend; the Casimir force there is neglected (assumption stated in the report).
+        double a = s.GapOffset + sign * s.Scale * r.Piezo;
+        double v0 = ResidualPotentialAt(s, a);
+        double dv = r.Bias - v0;
+        if (frequency)
+        {
+            // f_ref = f0 sqrt(1 − <G>(a)(V − V0)^2 / k)  =>  f0 = f_ref / sqrt(1 − y_el)
+            double y = e.AveragedGradient(a, c.Amplitude) / s.Kappa * dv * dv;
+            return double.IsFinite(y) ? r.Mean / Math.Sqrt(1 - y) : r.Mean;
+        }
+        // S_ref = S_free + u_el with u_el = −E(a)(V − V0)^2 / (k m)
+        double u = -e.Force(a) * dv * dv / s.Kappa;
+        return double.IsFinite(u) ? r.Mean - u : r.Mean;
+    }
+
+    private static double ResidualPotentialAt(State s, double a)
+    {
+        // Weighted straight line V0(a) through the positions (for the reference correction only).
+        var x = s.Positions.Select(p => p.Separation).ToArray();
+        var y = s.Positions.Select(p => p.ResidualPotential).ToArray();
+        var sigma = s.Positions.Select(p => Math.Max(p.ResidualPotentialSigma, 1e-12)).ToArray();
+        if (x.Length < 3) return y.Average();
+        FitResult line = LinearLeastSquares.Polynomial(x, y, 1, sigma);
+        return line.Parameters[0] + line.Parameters[1] * a;
+    }
+
+    // ---------------------------------------------------------------- the calibration fit (both modes)
+
+    // Rows after the points in the joint output vector: z0, instrument constant (k, or kappa = k m in deflection
+    // mode), m, s, gap drift v, V0 drift rate.
+    private const int CalibrationRows = 6;
+
+    /// <summary>
+    /// One weighted least-squares fit of every step of the run (physics.md, electrostatic calibration):
+    /// frequency mode  y_i = [C_j rho(a_i) + &lt;G&gt;(a_i) (V_i − V0_j(t_i))^2] / k,
+    /// deflection mode u_i = −[C_j rho(a_i) + E(a_i) (V_i − V0_j(t_i))^2] / (k m),
+    /// with the gap a_i = z0 + d s p_i + v (t_i − t_mid) (− m u_i in deflection mode: the sphere moves by x = m u),
+    /// V0_j(t) = V0_j + w (t − t_j), G and E the exact sphere–plate gradient and force per V^2 (&lt;G&gt; averaged over
+    /// the oscillation), C_j the bias-free value at position j and rho(a) = F_smooth(a)/F_smooth(a_j) its variation
+    /// over the small gap changes within the position, taken from the smooth curve of the data. The piezo scale s,
+    /// when its stated uncertainty is non-zero, is fitted with the statement "s ± sigma" as one more observation.
+    /// A slow gap drift v and V0 drift w are fitted because at this precision both are visible within one position.
+    /// </summary>
+    private static State GlobalPass(StepPoint[] steps, int[][] groups, FreeSignalTrack track, RunConstants c, ElectrostaticTable e, int sign,
+        double scaleSigma, CurveShape? shape, bool frequency)
+    {
+        int n = steps.Length, np = groups.Length;
+        var obs = new double[n];
+        var noise = new double[n];
+        var dFree = new double[n];
+        var position = new int[n];
+        for (int j = 0; j < np; j++) foreach (int i in groups[j]) position[i] = j;
+        for (int i = 0; i < n; i++)
+        {
+            double free = track.At(steps[i].Time), f = steps[i].Signal;
+            if (frequency)
+            {
+                // y = 1 − (f/f0)^2, dy/df = −2f/f0^2, dy/df0 = 2 f^2/f0^3.
+                obs[i] = 1 - f / free * (f / free);
+                noise[i] = 2 * f / (free * free) * steps[i].SignalSigma;
+                dFree[i] = 2 * f * f / (free * free * free);
+            }
+            else
+            {
+                obs[i] = f - free; // u = S − S_free, du/dS_free = −1
+                noise[i] = steps[i].SignalSigma;
+                dFree[i] = -1;
+            }
+        }
+        double[,] cov = StepCovariance(steps, noise, dFree, track);
+        (ParabolaFit[] parabolas, _, double rateStart) = Parabolas(steps, groups, obs, cov);
+        var piezo = groups.Select(g => steps[g[0]].Piezo).ToArray();
+        var time = groups.Select(g => g.Average(i => steps[i].Time)).ToArray();
+        double tMid = steps.Average(s => s.Time);
+
+        // Free calibration parameters, in this order: z0; the instrument constant unless fixed (frequency: k unless
+        // given; deflection: kappa unless k and m are both given); m in deflection mode when neither k nor m is given;
+        // s when its uncertainty is stated; v; w. Fixed: k given => m = kappa / k; m given => m fixed.
+        bool kGiven = c.SpringConstant is not null, mGiven = c.Sensitivity is not null, fitS = scaleSigma > 0;
+        bool fitConstant = frequency ? !kGiven : !(kGiven && mGiven);
+        bool fitM = !frequency && !kGiven && !mGiven;
+        int iConstant = fitConstant ? 1 : -1, iM = fitM ? 1 + (fitConstant ? 1 : 0) : -1;
+        int iS = fitS ? 1 + (fitConstant ? 1 : 0) + (fitM ? 1 : 0) : -1;
+        int iV = 1 + (fitConstant ? 1 : 0) + (fitM ? 1 : 0) + (fitS ? 1 : 0), iW = iV + 1, shared = iW + 1;
+        (double Z0, double K, double M, double S, double V, double W) Calibration(ReadOnlySpan<double> p)
+        {
+            double constant = fitConstant ? p[iConstant] : frequency ? c.SpringConstant!.Value : c.SpringConstant!.Value * c.Sensitivity!.Value;
+            double m = frequency ? 0 : fitM ? p[iM] : mGiven ? c.Sensitivity!.Value : constant / c.SpringConstant!.Value;
+            return (p[0], constant, m, fitS ? p[iS] : c.Scale, p[iV], p[iW]);
+        }
+        double Electric(double a) => frequency ? e.AveragedGradient(a, c.Amplitude) : e.Force(a);
+
+        // Start: the plain parabolas' curvatures give z0 and the constant through the near-contact law.
+        var curvature = parabolas.Select(p => p.Curvature).ToArray();
+        (double z0s, double qStart) = NearContactStart(piezo, curvature, sign * c.Scale, c.Radius, power: frequency ? 2 : 1);
+        var start = new double[shared + 2 * np];
+        start[0] = z0s;
+        if (fitConstant) start[iConstant] = qStart;
+        if (fitS) start[iS] = c.Scale;
+        start[iW] = rateStart;
+        double constantStart = Calibration(start).K;
+        double toValue = frequency ? constantStart : -constantStart; // vertex in signal units -> F' or F
+        for (int j = 0; j < np; j++)
+        {
+            start[shared + j] = toValue * parabolas[j].Vertex;
+            start[shared + np + j] = parabolas[j].ResidualPotential;
+        }
+        CurveShape curve = shape ?? CurveShape.Fit(piezo.Select(p => z0s + sign * c.Scale * p).ToArray(),
+            parabolas.Select(p => toValue * p.Vertex).ToArray(), parabolas.Select(p => Math.Abs(toValue) * p.VertexSigma).ToArray());
+
+        double Gap(in (double Z0, double K, double M, double S, double V, double W) q, double reading, double t) => q.Z0 + sign * q.S * reading + q.V * (t - tMid);
+        double ModelAt(int i, double[] p)
+        {
+            var q = Calibration(p);
+            if (i == n) return q.S; // the stated piezo scale as an observation
+            int j = position[i];
+            double aj = Gap(q, steps[i].Piezo, time[j]);
+            double a = Gap(q, steps[i].Piezo, steps[i].Time) - q.M * obs[i];
+            double rho = curve.Value(a) / curve.Value(aj);
+            double dv = steps[i].Bias - p[shared + np + j] - q.W * (steps[i].Time - time[j]);
+            double force = p[shared + j] * rho + Electric(a) * dv * dv;
+            return frequency ? force / q.K : -force / q.K;
+        }
+        // Generalised least squares with the full covariance of the observations: noise, the free signal's shared
+        // errors and random walk, the stated piezo scale, and the recorded channels' readout errors carried through
+        // the model (effective variance: (df/dV)^2 sigma_V^2 per step, (df/dp)(df/dp)^T sigma_p^2 per position),
+        // evaluated at the previous solution and refitted once.
+        var y = obs.ToList();
+        if (fitS) y.Add(c.Scale);
+        int m = y.Count;
+        double[] Vector(double[] p)
+        {
+            var f = new double[m];
+            for (int i = 0; i < m; i++) f[i] = ModelAt(i, p);
+            return f;
+        }
+        double[,] Covariance(double[] p)
+        {
+            var total = new double[m, m];
+            for (int i = 0; i < n; i++) for (int q = 0; q < n; q++) total[i, q] = cov[i, q];
+            if (fitS) total[n, n] = scaleSigma * scaleSigma;
+            var dBias = new double[n];
+            var dPiezo = new double[n];
+            for (int i = 0; i < n; i++)
+            {
+                StepPoint st = steps[i];
+                double hv = Math.Max(st.BiasSigma, 1e-9), hp = Math.Max(st.PiezoSigma, 1e-15);
+                steps[i] = st with { Bias = st.Bias + hv }; double up = ModelAt(i, p);
+                steps[i] = st with { Bias = st.Bias - hv }; double down = ModelAt(i, p);
+                dBias[i] = (up - down) / (2 * hv);
+                steps[i] = st with { Piezo = st.Piezo + hp }; up = ModelAt(i, p);
+                steps[i] = st with { Piezo = st.Piezo - hp }; down = ModelAt(i, p);
+                dPiezo[i] = (up - down) / (2 * hp);
+                steps[i] = st;
+                total[i, i] += dBias[i] * dBias[i] * st.BiasSigma * st.BiasSigma;
+            }
+            foreach (int[] g in groups)
+                foreach (int i in g) foreach (int q in g) total[i, q] += dPiezo[i] * dPiezo[q] * steps[i].PiezoSigma * steps[i].PiezoSigma;
+            return total;
+        }
+        var options = new FitOptions(1e-10, 1e-15, 500);
+        FitResult fit = LevenbergMarquardt.FitCorrelated(Vector, y, Covariance(start), start, options);
+        fit = LevenbergMarquardt.FitCorrelated(Vector, y, Covariance(fit.Parameters), fit.Parameters, options);
+        double[] theta = fit.Parameters;
+        double[,] thetaCov = fit.Covariance;
+
+        // Each position's result at its mean time: frequency mode a_j and C_j corrected for the amplitude; deflection
+        // mode the gap a* where the sphere rests at V = V0 (k x* = −F(a*), iterated) and F(a*) = C_j rho(a*).
+        (double[] A, double[] F) Outputs(double[] p, CurveShape smooth)
+        {
+            var q = Calibration(p);
+            var a = new double[np];
+            var f = new double[np];
+            for (int j = 0; j < np; j++)
+            {
+                double a0 = Gap(q, piezo[j], time[j]), cj = p[shared + j];
+                if (frequency)
+                {
+                    a[j] = a0;
+                    // <F'> = F' + (A^2/8) F''' (physics.md): remove r = (A^2/8) F'''/F' of the smooth curve.
+                    f[j] = cj / (1 + c.Amplitude * c.Amplitude / 8 * smooth.SecondOverValue(a0));
+                    continue;
+                }
+                double at = a0;
+                for (int it = 0; it < 60; it++)
+                {
+                    double next = a0 + q.M * cj * curve.Value(at) / curve.Value(a0) / q.K; // a = a0 − x, x = −F m / kappa
+                    bool done = Math.Abs(next - at) < 1e-17;
+                    at = next;
+                    if (done) break;
+                }
+                a[j] = at;
+                f[j] = cj * curve.Value(at) / curve.Value(a0);
+            }
+            return (a, f);
+        }
+        var rawSigma = Enumerable.Range(0, np).Select(j => Math.Sqrt(thetaCov[shared + j, shared + j])).ToArray();
+        (double[] separation, double[] value) = Outputs(theta, curve);
+        CurveShape newShape = CurveShape.Fit(separation, value, rawSigma);
+        (separation, value) = Outputs(theta, newShape);
+        var slope = Enumerable.Range(0, np).Select(j => value[j] * newShape.LogSlope(separation[j])).ToArray();
+        var correction = frequency ? separation.Select(a => c.Amplitude * c.Amplitude / 8 * newShape.SecondOverValue(a)).ToArray() : new double[np];
+
+        // Outputs [F_eff_j, z0, K, m, s, v, w] as functions of theta, differentiated numerically; F_eff is the value
+        // at a fixed separation (F − slope da).
+        var cal = Calibration(theta);
+        int rows = np + CalibrationRows;
+        var l = new double[rows, theta.Length];
+        for (int q = 0; q < theta.Length; q++)
+        {
+            // A hundredth of the parameter's uncertainty: small enough to stay linear, large enough against rounding.
+            double sq = Math.Sqrt(thetaCov[q, q]);
+            double h = sq > 0 ? 0.01 * sq : 1e-7 * Math.Max(Math.Abs(theta[q]), 1e-30);
+            double[] up = (double[])theta.Clone(), down = (double[])theta.Clone();
+            up[q] += h; down[q] -= h;
+            (double[] au, double[] fu) = Outputs(up, newShape);
+            (double[] ad, double[] fd) = Outputs(down, newShape);
+            var cu = Calibration(up); var cd = Calibration(down);
+            for (int j = 0; j < np; j++) l[j, q] = ((fu[j] - fd[j]) - slope[j] * (au[j] - ad[j])) / (2 * h);
+            l[np, q] = (cu.Z0 - cd.Z0) / (2 * h);
+            l[np + 1, q] = (cu.K - cd.K) / (2 * h);
+            l[np + 2, q] = (cu.M - cd.M) / (2 * h);
+            l[np + 3, q] = (cu.S - cd.S) / (2 * h);
+            l[np + 4, q] = (cu.V - cd.V) / (2 * h);
+            l[np + 5, q] = (cu.W - cd.W) / (2 * h);
+        }
+        double[,] joint = Matrices.Propagate(l, thetaCov);
+        var sharedIdx = new List<int> { np };
+        if (fitConstant) sharedIdx.Add(np + 1);
+        if (fitM) sharedIdx.Add(np + 2);
+        if (fitS) sharedIdx.Add(np + 3);
+        sharedIdx.Add(np + 4);
+        sharedIdx.Add(np + 5);
+        double k = frequency ? cal.K : cal.K / cal.M;
+        (double K, double M) ToPhysical(double dK, double dM) => frequency ? (dK, 0) : (dK / cal.M - cal.K / (cal.M * cal.M) * dM, dM);
+        (double[,] random, SystematicSource calSource) = Split(joint, np, sharedIdx, ToPhysical);
+        double varK;
+        if (frequency) varK = joint[np + 1, np + 1];
+        else
+        {
+            // k = kappa / m with its statistical variance from (kappa, m).
+            double vk = joint[np + 1, np + 1], vm = joint[np + 2, np + 2], ckm = joint[np + 1, np + 2];
+            varK = Math.Max(0, k * k * (vk / (cal.K * cal.K) + vm / (cal.M * cal.M) - 2 * ckm / (cal.K * cal.M)));
+        }
+        var v0Idx = Enumerable.Range(shared + np, np).ToArray();
+        double[,] v0Cov = Matrices.Sub(thetaCov, v0Idx, v0Idx);
+        double scaleBack = frequency ? cal.K : -cal.K; // plain parabola in signal units -> physical units
+        var positions = Enumerable.Range(0, np).Select(j => new PositionFit(j, piezo[j], time[j], separation[j],
+            theta[shared + np + j], Math.Sqrt(v0Cov[j, j]), scaleBack * parabolas[j].Curvature, Math.Abs(scaleBack) * parabolas[j].CurvatureSigma,
+            value[j], Math.Sqrt(random[j, j]), parabolas[j].ChiSquare, parabolas[j].DegreesOfFreedom, groups[j].Length)).ToArray();
+        var fitted = new List<string> { "z0" };
+        if (frequency ? !kGiven : fitConstant) fitted.Add(frequency ? "k" : "k m");
+        if (fitM) fitted.Add("m");
+        if (fitS) fitted.Add("s");
+        fitted.Add("gap drift");
+        fitted.Add("V0 drift");
+        Estimate Stat(double v, double variance) => new(v, Math.Sqrt(Math.Max(variance, 0)), Math.Sqrt(Math.Max(variance, 0)));
+        var calibration = new RunCalibration(Stat(cal.Z0, joint[np, np]), Stat(k, varK), frequency ? null : Stat(cal.M, joint[np + 2, np + 2]),
+            fit.ChiSquare, fit.DegreesOfFreedom, fit.Stop, fitted)
+        {
+            PiezoScale = Stat(cal.S, joint[np + 3, np + 3]),
+            GapDrift = Stat(cal.V, joint[np + 4, np + 4]),
+            ResidualPotentialDrift = Stat(cal.W, joint[np + 5, np + 5]),
+            ReferenceTime = tMid,
+        };
+        return new State(calibration, fit, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M, cal.S);
+    }
+
+    // Start of the calibration from the near-contact laws (physics.md): the curvature is c = pi eps0 R / (q a^power)
+    // with power 2 for the gradient (q = k) and 1 for the force (q = k m), so c^(-1/power) is linear in the reading.
+    private static (double Z0, double Q) NearContactStart(double[] piezo, double[] curvature, double direction, double radius, int power)
+    {
+        const double eps0 = 8.8541878128e-12; // CODATA 2018, for the starting value only
+        var idx = Enumerable.Range(0, piezo.Length).Where(j => curvature[j] > 0).ToArray();
+        double[] x = idx.Select(j => piezo[j]).ToArray(), w = idx.Select(j => Math.Pow(curvature[j], -1.0 / power)).ToArray();
+        if (x.Length < 2) return (100e-9, 1);
+        FitResult line = LinearLeastSquares.Polynomial(x, w, 1);
+        double b0 = line.Parameters[0], b1 = line.Parameters[1];
+        // w = (q / (pi eps0 R))^(1/power) (z0 + d s p): b1 = (q/(pi eps0 R))^(1/power) d s.
+        double q = Math.PI * eps0 * radius * Math.Pow(b1 / direction, power);
+        return (b0 / b1 * direction, q);
+    }
+
+    // Conditions the joint covariance of [points, z0, constant, m, s, v, w] on the free calibration parameters: the
+    // points' covariance with the calibration held fixed (random), and the calibration's own uncertainty as
+    // independent one-sigma directions (with C_cal = L L^T, direction q moves every output by D L_q, D the
+    // regression of all outputs on the free calibration parameters).
+    private static (double[,] Random, SystematicSource Calibration) Split(double[,] joint, int np, List<int> sharedIdx, Func<double, double, (double K, double M)> toPhysical)
+    {
+        int rows = joint.GetLength(0);
+        (double[,] conditional, double[,] d) = Matrices.Condition(joint, Enumerable.Range(0, rows).ToArray(), sharedIdx);
+        var points = Enumerable.Range(0, np).ToArray();
+        double[,] random = Matrices.Sub(conditional, points, points);
+        double[,] calCov = Matrices.Sub(joint, sharedIdx, sharedIdx);
+        double[,] chol = Matrices.CholeskyLower(calCov);
+        int q = sharedIdx.Count;
+        var contributions = new double[q][];
+        var z0 = new double[q];
+        var k = new double[q];
+        var m = new double[q];
+        for (int col = 0; col < q; col++)
+        {
+            var moved = new double[rows];
+            for (int o = 0; o < rows; o++) for (int r = 0; r < q; r++) moved[o] += d[o, r] * chol[r, col];
+            contributions[col] = moved[..np];
+            z0[col] = moved[np];
+            (k[col], m[col]) = toPhysical(moved[np + 1], moved[np + 2]);
+        }
+        return (random, new SystematicSource("calibration", contributions, z0, k, m, false));
+    }
+
+    // ---------------------------------------------------------------- shared pieces
+
+    // Covariance of the steps' observables: own noise plus the free signal's shared errors and random walk.
+    private static double[,] StepCovariance(StepPoint[] steps, double[] noise, double[] dFree, FreeSignalTrack track)
+    {
+        int n = steps.Length;
+        var c = new double[n, n];
+        for (int i = 0; i < n; i++)
+        {
+            c[i, i] = noise[i] * noise[i];
+            for (int l = 0; l <= i; l++)
+            {
+                double v = dFree[i] * dFree[l] * track.Covariance(steps[i].Time, steps[l].Time);
+                c[i, l] += v;
+                if (l != i) c[l, i] += v;
+            }
+        }
+        return c;
+    }
+
+    // A parabola per position with diagonal weights, and the linear map M (3 rows per position: c, V0, y0) from all
+    // observables to the parabola parameters, so that their full covariance is M C M^T. V0 drifts in time (physics.md:
+    // a V0 that varies with time is measured and propagated): a first pass fits y = b0 + b1 u + b2 u^2 + b3 u (t − t_j)
+    // at each position (u = V − mean V), which gives the local rate dV0/dt = −b3/(2 b2); their weighted mean over the
+    // run refers every bias to the position's mean time, V_eff = V − (dV0/dt)(t − t_j), before the final parabola.
+    // The rate's own uncertainty is left out of M (its effect on c and y0 is of second order).
+    private static (ParabolaFit[] Fits, double[,] Map, double Rate) Parabolas(StepPoint[] steps, int[][] groups, double[] y, double[,] cy)
+    {
+        double sumW = 0, sumWR = 0;
+        foreach (int[] g in groups)
+        {
+            if (g.Length < 5) continue;
+            double vm = g.Average(i => steps[i].Bias), tm = g.Average(i => steps[i].Time);
+            var design = new double[g.Length, 4];
+            for (int k = 0; k < g.Length; k++)
+            {
+                double u = steps[g[k]].Bias - vm, dt = steps[g[k]].Time - tm;
+                design[k, 0] = 1; design[k, 1] = u; design[k, 2] = u * u; design[k, 3] = u * dt;
+            }
+            FitResult f = LinearLeastSquares.Fit(design, g.Select(i => y[i]).ToArray(), g.Select(i => Math.Sqrt(cy[i, i])).ToArray());
+            double b2 = f.Parameters[2], rate = -f.Parameters[3] / (2 * b2);
+            double sigma = Math.Sqrt(f.Covariance[3, 3]) / (2 * Math.Abs(b2));
+            if (!(sigma > 0) || !double.IsFinite(rate)) continue;
+            sumW += 1 / (sigma * sigma);
+            sumWR += rate / (sigma * sigma);
+        }
+        double v0Rate = sumW > 0 ? sumWR / sumW : 0;
+        var fits = new ParabolaFit[groups.Length];
+        var map = new double[3 * groups.Length, steps.Length];
+        for (int j = 0; j < groups.Length; j++)
+        {
+            int[] g = groups[j];
+            double tm = g.Average(i => steps[i].Time);
+            double[] bias = g.Select(i => steps[i].Bias - v0Rate * (steps[i].Time - tm)).ToArray(), yy = g.Select(i => y[i]).ToArray();
+            double[] sigma = g.Select(i => Math.Sqrt(cy[i, i])).ToArray();
+            fits[j] = ParabolaFit.Fit(bias, yy, sigma);
+            double[,] s = ParabolaFit.Sensitivity(bias, sigma, fits[j]);
+            for (int r = 0; r < 3; r++) for (int k = 0; k < g.Length; k++) map[3 * j + r, g[k]] = s[r, k];
+        }
+        return (fits, map, v0Rate);
+    }
+
+    private static double PositionCovariance(double[,] map, double[,] c, int row1, int row2)
+    {
+        int n = c.GetLength(0);
+        double sum = 0;
+        for (int i = 0; i < n; i++)
+        {
+            double a = map[row1, i];
+            if (a == 0) continue;
+            for (int l = 0; l < n; l++) sum += a * c[i, l] * map[row2, l];
+        }
+        return sum;
+    }
+}

@@ -1,0 +1,108 @@
+using MathNet.Numerics.LinearAlgebra;
+
+namespace ForceFit.Fitting;
+
+/// <summary>
+/// The few dense matrix operations error propagation needs, on plain double[,] so that MathNet types stay inside
+/// this project: products, J C J^T, symmetric inverse, Cholesky factor and the Schur complement.
+/// </summary>
+public static class Matrices
+{
+    /// <summary>A B.</summary>
+    public static double[,] Multiply(double[,] a, double[,] b)
+    {
+        int n = a.GetLength(0), m = a.GetLength(1), p = b.GetLength(1);
+        if (b.GetLength(0) != m) throw new ArgumentException("inner dimensions differ");
+        var c = new double[n, p];
+        for (int i = 0; i < n; i++)
+            for (int k = 0; k < m; k++)
+            {
+                double aik = a[i, k];
+                if (aik == 0) continue;
+                for (int j = 0; j < p; j++) c[i, j] += aik * b[k, j];
+            }
+        return c;
+    }
+
+    /// <summary>J C J^T: the covariance of J x when x has covariance C (linear error propagation).</summary>
+    public static double[,] Propagate(double[,] j, double[,] c) => Multiply(Multiply(j, c), Transpose(j));
+
+    /// <summary>A^T.</summary>
+    public static double[,] Transpose(double[,] a)
+    {
+        int n = a.GetLength(0), m = a.GetLength(1);
+        var t = new double[m, n];
+        for (int i = 0; i < n; i++) for (int k = 0; k < m; k++) t[k, i] = a[i, k];
+        return t;
+    }
+
+    /// <summary>The inverse of a symmetric positive-definite matrix (Cholesky), symmetrised.</summary>
+    public static double[,] InverseSymmetric(double[,] a)
+    {
+        int n = a.GetLength(0);
+        Matrix<double> m = Matrix<double>.Build.DenseOfArray(a);
+        Matrix<double> inverse = m.Cholesky().Solve(Matrix<double>.Build.DenseIdentity(n));
+        var r = new double[n, n];
+        for (int i = 0; i < n; i++) for (int k = 0; k < n; k++) r[i, k] = 0.5 * (inverse[i, k] + inverse[k, i]);
+        return r;
+    }
+
+    /// <summary>
+    /// The lower Cholesky factor L of a covariance, C = L L^T; its columns are independent one-sigma error
+    /// directions (each column is how every component moves for one standard deviation of one combination).
+    /// Zero rows and columns (exactly known components) are allowed.
+    /// </summary>
+    public static double[,] CholeskyLower(double[,] c)
+    {
+        int n = c.GetLength(0);
+        var l = new double[n, n];
+        for (int j = 0; j < n; j++)
+        {
+            double d = c[j, j];
+            for (int k = 0; k < j; k++) d -= l[j, k] * l[j, k];
+            if (d <= 1e-15 * Math.Abs(c[j, j]) || d <= 0) continue; // a combination with no variance left
+            double ljj = Math.Sqrt(d);
+            l[j, j] = ljj;
+            for (int i = j + 1; i < n; i++)
+            {
+                double s = c[i, j];
+                for (int k = 0; k < j; k++) s -= l[i, k] * l[j, k];
+                l[i, j] = s / ljj;
+            }
+        }
+        return l;
+    }
+
+    /// <summary>
+    /// Splits the covariance of a parameter vector partitioned into "local" indices and "shared" indices:
+    /// Cov(local | shared fixed) = C_ll − C_ls C_ss^-1 C_sl, and the sensitivity D = C_ls C_ss^-1 of the local
+    /// parameters to the shared ones, so that C_ll = conditional + D C_ss D^T exactly (Gaussian conditioning).
+    /// </summary>
+    public static (double[,] Conditional, double[,] Sensitivity) Condition(double[,] c, IReadOnlyList<int> local, IReadOnlyList<int> shared)
+    {
+        double[,] ll = Sub(c, local, local), ls = Sub(c, local, shared), ss = Sub(c, shared, shared);
+        double[,] d = Multiply(ls, InverseSymmetric(ss));
+        double[,] explained = Multiply(d, Transpose(ls));
+        int n = local.Count;
+        var conditional = new double[n, n];
+        for (int i = 0; i < n; i++) for (int k = 0; k < n; k++) conditional[i, k] = ll[i, k] - 0.5 * (explained[i, k] + explained[k, i]);
+        return (conditional, d);
+    }
+
+    /// <summary>The sub-matrix of the given rows and columns.</summary>
+    public static double[,] Sub(double[,] a, IReadOnlyList<int> rows, IReadOnlyList<int> columns)
+    {
+        var s = new double[rows.Count, columns.Count];
+        for (int i = 0; i < rows.Count; i++) for (int k = 0; k < columns.Count; k++) s[i, k] = a[rows[i], columns[k]];
+        return s;
+    }
+
+    /// <summary>r^T C^-1 r for a symmetric positive-definite C (chi-square with a full covariance).</summary>
+    public static double QuadraticForm(IReadOnlyList<double> r, double[,] c)
+    {
+        int n = r.Count;
+        Matrix<double> m = Matrix<double>.Build.DenseOfArray(c);
+        Vector<double> v = Vector<double>.Build.Dense(n, i => r[i]);
+        return v.DotProduct(m.Cholesky().Solve(v));
+    }
+}
