@@ -74,7 +74,7 @@ public static class NightSimulator
         ForceModel forces = ForceTables.GetOrAdd(key, _ => new ForceModel(new LifshitzCalculator(gold, gold, s.Temperature), geometry, low, high));
 
         // One piezo per night: its true scale is drawn once from the stated 1 ± sigma.
-        double piezoScale = s.Imperfections.PiezoScaleError ? 1 + s.PiezoScaleSigma * random.Fork(1000).NextGaussian() : 1.0;
+        double piezoScale = s.Imperfections.PiezoScaleError ? 1 + s.PiezoScaleSigma * new RandomSource(request.Seed ^ 0x5CA1EUL).NextGaussian() : 1.0;
         var runs = new List<RunTruthWithSteps>();
         for (int r = 0; r < s.Runs; r++)
         {
