@@ -169,28 +169,6 @@ public static class LevenbergMarquardt
         return Fit(whitened, xs, yw, start, Enumerable.Repeat(1.0, n).ToArray(), options);
     }
 
-    /// <summary>The unweighted Jacobian df(x_i)/dp_j at p (analytic when the model has one, else central differences).</summary>
-    public static double[,] Jacobian(NonlinearModel model, IReadOnlyList<double> x, double[] p)
-    {
-        var j = Matrix<double>.Build.Dense(x.Count, p.Length);
-        Jacobian(model, x, Enumerable.Repeat(1.0, x.Count).ToArray(), p, j);
-        return j.ToArray();
-    }
-
-    /// <summary>
-    /// The linear estimator of a weighted least-squares fit at its solution: dp/dy = (J^T W J)^-1 J^T W with
-    /// W = diag(1/sigma^2). With it the covariance of the parameters under any covariance C of the data is
-    /// S C S^T (the "sandwich"), which stays right when the data are correlated but were fitted with diagonal weights.
-    /// </summary>
-    public static double[,] Estimator(double[,] jacobian, IReadOnlyList<double> sigma)
-    {
-        int n = jacobian.GetLength(0), k = jacobian.GetLength(1);
-        var jw = new double[n, k];
-        for (int i = 0; i < n; i++) for (int c = 0; c < k; c++) jw[i, c] = jacobian[i, c] / (sigma[i] * sigma[i]);
-        double[,] fisher = Matrices.Multiply(Matrices.Transpose(jacobian), jw);
-        return Matrices.Multiply(Matrices.InverseSymmetric(fisher), Matrices.Transpose(jw));
-    }
-
     // A point where no step along the damped directions lowers chi-square by more than rounding: relative change 1e-14.
     private static bool IsStationary(NonlinearModel model, IReadOnlyList<double> x, IReadOnlyList<double> y, double[] w, double[] p, double chi2)
     {

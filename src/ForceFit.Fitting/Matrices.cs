@@ -96,13 +96,4 @@ public static class Matrices
         for (int i = 0; i < rows.Count; i++) for (int k = 0; k < columns.Count; k++) s[i, k] = a[rows[i], columns[k]];
         return s;
     }
-
-    /// <summary>r^T C^-1 r for a symmetric positive-definite C (chi-square with a full covariance).</summary>
-    public static double QuadraticForm(IReadOnlyList<double> r, double[,] c)
-    {
-        int n = r.Count;
-        Matrix<double> m = Matrix<double>.Build.DenseOfArray(c);
-        Vector<double> v = Vector<double>.Build.Dense(n, i => r[i]);
-        return v.DotProduct(m.Cholesky().Solve(v));
-    }
 }

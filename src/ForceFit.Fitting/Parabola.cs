@@ -49,30 +49,4 @@ public sealed record ParabolaFit(double Curvature, double ResidualPotential, dou
             }
         return new ParabolaFit(c, v0, y0, cov, f.ChiSquare, f.DegreesOfFreedom);
     }
-
-    /// <summary>
-    /// The derivatives d(c, V0, y0)/dy_i of a fit at its solution (3 rows, one column per point): the linear
-    /// estimator b = (A^T W A)^-1 A^T W y of the centred polynomial followed by the Jacobian of (c, V0, y0) in b.
-    /// With it the covariance of (c, V0, y0) under any covariance C of the y values is S C S^T.
-    /// </summary>
-    public static double[,] Sensitivity(IReadOnlyList<double> bias, IReadOnlyList<double> sigma, ParabolaFit fit)
-    {
-        int n = bias.Count;
-        double m = bias.Average();
-        var design = new double[n, 3];
-        for (int i = 0; i < n; i++)
-        {
-            double u = bias[i] - m;
-            design[i, 0] = 1; design[i, 1] = u; design[i, 2] = u * u;
-        }
-        double[,] estimator = LevenbergMarquardt.Estimator(design, sigma);
-        double b2 = fit.Curvature, b1 = 2 * b2 * (m - fit.ResidualPotential);
-        double[,] j =
-        {
-            { 0, 0, 1 },
-            { 0, -1 / (2 * b2), b1 / (2 * b2 * b2) },
-            { 1, -b1 / (2 * b2), b1 * b1 / (4 * b2 * b2) },
-        };
-        return Matrices.Multiply(j, estimator);
-    }
 }

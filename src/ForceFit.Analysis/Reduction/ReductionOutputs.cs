@@ -22,7 +22,7 @@ public sealed record NightReduction(NightSettings Night, IReadOnlyList<RunSegmen
 
     /// <summary>Reasons the result cannot be trusted (exit status 3), empty when it can.</summary>
     public IReadOnlyList<string> TrustProblems => Runs
-        .Where(r => !r.Calibration.Stop.Equals(StopReason.ParametersConverged) && !r.Calibration.Stop.Equals(StopReason.ChiSquareConverged) && !r.Calibration.Stop.Equals(StopReason.GradientVanished))
+        .Where(r => !r.Calibration.Converged)
         .Select(r => $"{r.Run}: the calibration fit did not converge ({r.Calibration.Stop})")
         .Concat(Runs.Where(r => r.Calibration.DegreesOfFreedom > 0 && r.Calibration.PValue < 1e-6)
             .Select(r => $"{r.Run}: the calibration fit is inconsistent with the uncertainties (chi2 = {r.Calibration.ChiSquare.ToString("F1", CultureInfo.InvariantCulture)} for {r.Calibration.DegreesOfFreedom}, p = {r.Calibration.PValue.ToString("G2", CultureInfo.InvariantCulture)})"))
@@ -141,12 +141,8 @@ public static class ReductionOutputs
     /// <summary>V0 at the run's nearest position, and the weighted straight-line slope of V0 against separation.</summary>
     public static (double V0, double V0Sigma, double Slope, double SlopeSigma, double Separation) ResidualPotential(RunResult run)
     {
-        PositionFit nearest = run.Positions.MinBy(p => p.Separation)!;
-        var x = run.Positions.Select(p => p.Separation - nearest.Separation).ToArray();
-        var y = run.Positions.Select(p => p.ResidualPotential).ToArray();
-        var s = run.Positions.Select(p => Math.Max(p.ResidualPotentialSigma, 1e-15)).ToArray();
-        FitResult line = LinearLeastSquares.Polynomial(x, y, 1, s);
-        return (line.Parameters[0], Math.Sqrt(line.Covariance[0, 0]), line.Parameters[1], Math.Sqrt(line.Covariance[1, 1]), nearest.Separation);
+        (FitResult line, double nearest) = RunReducer.ResidualPotentialLine(run.Positions);
+        return (line.Parameters[0], Math.Sqrt(line.Covariance[0, 0]), line.Parameters[1], Math.Sqrt(line.Covariance[1, 1]), nearest);
     }
 
     private static string Summary(NightReduction r)

@@ -156,11 +156,11 @@ public static class RunReducer
     }
 
     /// <summary>The outcome of one pass.</summary>
-    private sealed record State(RunCalibration Calibration0, FitResult Calibration, PositionFit[] Positions, double[] Separation, double[] Value, double[] Slope,
+    private sealed record State(RunCalibration Calibration, PositionFit[] Positions, double[] Separation, double[] Value, double[] Slope,
         double[] PointTime, double[,] RandomCovariance, SystematicSource CalibrationSource, double[,] ResidualPotentialCovariance, double[] AmplitudeCorrection,
         CurveShape Shape, double GapOffset, double Kappa, double Sensitivity, double Scale)
     {
-        public Core ToCore(FreeSignalTrack track, IReadOnlyList<string> warnings) => new(Calibration0, Positions, Separation, Value, Slope, PointTime,
+        public Core ToCore(FreeSignalTrack track, IReadOnlyList<string> warnings) => new(Calibration, Positions, Separation, Value, Slope, PointTime,
             RandomCovariance, CalibrationSource, track, ResidualPotentialCovariance, AmplitudeCorrection, Shape, warnings);
     }
 
@@ -204,15 +204,24 @@ public static class RunReducer
         return double.IsFinite(u) ? r.Mean - u : r.Mean;
     }
 
+    /// <summary>
+    /// The weighted straight line V0(a) = b0 + b1 (a − a_nearest) through the positions' V0 values, with a_nearest the
+    /// nearest position's separation: b0 is V0 there and b1 the slope against separation.
+    /// </summary>
+    public static (FitResult Line, double NearestSeparation) ResidualPotentialLine(IReadOnlyList<PositionFit> positions)
+    {
+        double nearest = positions.Min(p => p.Separation);
+        FitResult line = LinearLeastSquares.Polynomial(positions.Select(p => p.Separation - nearest).ToArray(),
+            positions.Select(p => p.ResidualPotential).ToArray(), 1, positions.Select(p => Math.Max(p.ResidualPotentialSigma, 1e-15)).ToArray());
+        return (line, nearest);
+    }
+
     private static double ResidualPotentialAt(State s, double a)
     {
-        // Weighted straight line V0(a) through the positions (for the reference correction only).
-        var x = s.Positions.Select(p => p.Separation).ToArray();
-        var y = s.Positions.Select(p => p.ResidualPotential).ToArray();
-        var sigma = s.Positions.Select(p => Math.Max(p.ResidualPotentialSigma, 1e-12)).ToArray();
-        if (x.Length < 3) return y.Average();
-        FitResult line = LinearLeastSquares.Polynomial(x, y, 1, sigma);
-        return line.Parameters[0] + line.Parameters[1] * a;
+        // Along the straight line (for the reference correction only); with fewer than three positions the mean.
+        if (s.Positions.Length < 3) return s.Positions.Average(p => p.ResidualPotential);
+        (FitResult line, double nearest) = ResidualPotentialLine(s.Positions);
+        return line.Parameters[0] + line.Parameters[1] * (a - nearest);
     }
 
     // ---------------------------------------------------------------- the calibration fit (both modes)
@@ -259,7 +268,7 @@ public static class RunReducer
             }
         }
         double[,] cov = StepCovariance(steps, noise, dFree, track);
-        (ParabolaFit[] parabolas, _, double rateStart) = Parabolas(steps, groups, obs, cov);
+        (ParabolaFit[] parabolas, double rateStart) = Parabolas(steps, groups, obs, cov);
         var piezo = groups.Select(g => steps[g[0]].Piezo).ToArray();
         var time = groups.Select(g => g.Average(i => steps[i].Time)).ToArray();
         double tMid = steps.Average(s => s.Time);
@@ -454,7 +463,7 @@ public static class RunReducer
             ResidualPotentialDrift = Stat(cal.W, joint[np + 5, np + 5]),
             ReferenceTime = tMid,
         };
-        return new State(calibration, fit, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M, cal.S);
+        return new State(calibration, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M, cal.S);
     }
 
     // Start of the calibration from the near-contact laws (physics.md): the curvature is c = pi eps0 R / (q a^power)
@@ -520,13 +529,11 @@ public static class RunReducer
         return c;
     }
 
-    // A parabola per position with diagonal weights, and the linear map M (3 rows per position: c, V0, y0) from all
-    // observables to the parabola parameters, so that their full covariance is M C M^T. V0 drifts in time (physics.md:
+    // A plain parabola per position with diagonal weights (the calibration fit's start and tables/parabolas.csv). V0 drifts in time (physics.md:
     // a V0 that varies with time is measured and propagated): a first pass fits y = b0 + b1 u + b2 u^2 + b3 u (t − t_j)
     // at each position (u = V − mean V), which gives the local rate dV0/dt = −b3/(2 b2); their weighted mean over the
     // run refers every bias to the position's mean time, V_eff = V − (dV0/dt)(t − t_j), before the final parabola.
-    // The rate's own uncertainty is left out of M (its effect on c and y0 is of second order).
-    private static (ParabolaFit[] Fits, double[,] Map, double Rate) Parabolas(StepPoint[] steps, int[][] groups, double[] y, double[,] cy)
+    private static (ParabolaFit[] Fits, double Rate) Parabolas(StepPoint[] steps, int[][] groups, double[] y, double[,] cy)
     {
         double sumW = 0, sumWR = 0;
         foreach (int[] g in groups)
@@ -548,7 +555,6 @@ public static class RunReducer
         }
         double v0Rate = sumW > 0 ? sumWR / sumW : 0;
         var fits = new ParabolaFit[groups.Length];
-        var map = new double[3 * groups.Length, steps.Length];
         for (int j = 0; j < groups.Length; j++)
         {
             int[] g = groups[j];
@@ -556,22 +562,8 @@ public static class RunReducer
             double[] bias = g.Select(i => steps[i].Bias - v0Rate * (steps[i].Time - tm)).ToArray(), yy = g.Select(i => y[i]).ToArray();
             double[] sigma = g.Select(i => Math.Sqrt(cy[i, i])).ToArray();
             fits[j] = ParabolaFit.Fit(bias, yy, sigma);
-            double[,] s = ParabolaFit.Sensitivity(bias, sigma, fits[j]);
-            for (int r = 0; r < 3; r++) for (int k = 0; k < g.Length; k++) map[3 * j + r, g[k]] = s[r, k];
         }
-        return (fits, map, v0Rate);
+        return (fits, v0Rate);
     }
 
-    private static double PositionCovariance(double[,] map, double[,] c, int row1, int row2)
-    {
-        int n = c.GetLength(0);
-        double sum = 0;
-        for (int i = 0; i < n; i++)
-        {
-            double a = map[row1, i];
-            if (a == 0) continue;
-            for (int l = 0; l < n; l++) sum += a * c[i, l] * map[row2, l];
-        }
-        return sum;
-    }
 }

@@ -62,6 +62,9 @@ public sealed record RunCalibration(Estimate GapOffset, Estimate SpringConstant,
     /// <summary>The time (s, in the data file's clock) at which z0 is quoted: the mean time of the run's steps.</summary>
     public double ReferenceTime { get; init; }
 
+    /// <summary>False when the fit stopped at its iteration limit, without progress or singular (not trusted).</summary>
+    public bool Converged => Stop is not (StopReason.IterationLimit or StopReason.NoProgress or StopReason.Singular);
+
     /// <summary>Probability of a chi-square at least this large if the model and uncertainties are right.</summary>
     public double PValue => DegreesOfFreedom > 0 ? Statistics.ChiSquareSurvival(ChiSquare, DegreesOfFreedom) : double.NaN;
 }
