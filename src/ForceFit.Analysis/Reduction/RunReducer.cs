@@ -58,7 +58,7 @@ public static class RunReducer
             SpringConstant = Total(core.Calibration.SpringConstant.Value, core.Calibration.SpringConstant.StatisticalSigma, s => s.SpringConstant),
             Sensitivity = core.Calibration.Sensitivity is { } sens ? Total(sens.Value, sens.StatisticalSigma, s => s.Sensitivity) : null,
         };
-        warnings.AddRange(core.Warnings);
+        // Compute wrote the nominal pass's warnings into this list already (core.Warnings is the same list).
         return new RunResult(run.Name, calibration, core.Positions, core.Separation, core.Value, core.PointTime, core.RandomCovariance, sources,
             core.Track, core.ResidualPotentialCovariance, core.AmplitudeCorrection, warnings);
     }
