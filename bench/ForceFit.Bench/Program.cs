@@ -9,9 +9,15 @@ using ForceFit.Theory.Permittivity;
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --bdn   (BenchmarkDotNet, stable timings)
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --simulate   (10 million samples as CSV)
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --ingest [night-folder]   (CSV and HDF5 to steps)
+//              dotnet run -c Release --project bench/ForceFit.Bench -- --compare [night-folder]  (1000 draws, 2 theories, 60 separations)
 if (args.Contains("--ingest"))
 {
     ForceFit.Bench.IngestBenchmark.Run(args.SkipWhile(a => a != "--ingest").Skip(1).FirstOrDefault());
+    return;
+}
+if (args.Contains("--compare"))
+{
+    ForceFit.Bench.ComparisonBenchmark.Run(args.SkipWhile(a => a != "--compare").Skip(1).FirstOrDefault());
     return;
 }
 if (args.Contains("--simulate"))

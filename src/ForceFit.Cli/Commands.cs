@@ -8,7 +8,8 @@ public static class Commands
 {
     private static readonly string Usage = UsageText
         .Replace("@simulate@", SimulateCommand.Help.TrimEnd('\n'), StringComparison.Ordinal)
-        .Replace("@reduce@", ReduceCommand.Help.TrimEnd('\n'), StringComparison.Ordinal);
+        .Replace("@reduce@", ReduceCommand.Help.TrimEnd('\n'), StringComparison.Ordinal)
+        .Replace("@notebook@", NotebookCommand.Help.TrimEnd('\n'), StringComparison.Ordinal);
 
     private const string UsageText = """
         usage: forcefit <command> [options]
@@ -20,19 +21,23 @@ public static class Commands
               --from <length> --to <length> --count <n> [--spacing linear|log]
               or --at <length>,<length>,...;  --out <file.csv> (standard output without it)
         @reduce@
+        @notebook@
         @simulate@
           help                                this text
           version                             the tool version
 
         exit status: 0 success, 1 wrong input (the message names the file and line or key),
-                     2 wrong usage, 3 an analysis that cannot be trusted
+                     2 wrong usage, 3 an analysis that cannot be trusted, 130 stopped by Ctrl-C
         """;
 
     /// <summary>Runs one command; returns the exit status.</summary>
     /// <param name="args">Command-line arguments.</param>
     /// <param name="output">Where results go.</param>
     /// <param name="errors">Where messages go.</param>
-    public static int Run(string[] args, TextWriter output, TextWriter errors)
+    public static int Run(string[] args, TextWriter output, TextWriter errors) => Run(args, output, errors, errorsIsTerminal: false, CancellationToken.None);
+
+    /// <summary>Runs one command with a cancellation token (Ctrl-C) and whether standard error is a terminal (for progress).</summary>
+    public static int Run(string[] args, TextWriter output, TextWriter errors, bool errorsIsTerminal, CancellationToken cancel)
     {
         if (args.Length == 0)
         {
@@ -46,7 +51,8 @@ public static class Commands
                 "check" => CheckCommand.Run(args[1..], output),
                 "theory" => TheoryCommand.Run(args[1..], output, errors),
                 "simulate" => SimulateCommand.Run(args[1..], output),
-                "reduce" => ReduceCommand.Run(args[1..], output, errors),
+                "reduce" => ReduceCommand.Run(args[1..], output, errors, errorsIsTerminal, cancel),
+                "notebook" => NotebookCommand.Run(args[1..], output),
                 "help" or "--help" or "-h" => Help(output),
                 "version" or "--version" => Version(output),
                 _ => UsageFailure(errors, $"unknown command '{args[0]}'"),
@@ -55,6 +61,12 @@ public static class Commands
         catch (UsageException e)
         {
             return UsageFailure(errors, e.Message);
+        }
+        catch (OperationCanceledException)
+        {
+            errors.WriteLine();
+            errors.WriteLine("stopped: cancelled before anything was written (no report folder was created or changed)");
+            return ExitCodes.Cancelled;
         }
         catch (InputException e)
         {

@@ -20,7 +20,7 @@ public static class SimulateCommand
         """;
 
     private static readonly string[] ImperfectionNames =
-        ["correlated-noise", "readout-noise", "settling", "drift", "v0-variation", "piezo-scale", "gap-drift", "glitches", "dropped-samples"];
+        ["correlated-noise", "readout-noise", "settling", "drift", "v0-variation", "piezo-scale", "gap-drift", "glitches", "dropped-samples", "stated-inputs"];
 
     /// <summary>Runs the command.</summary>
     public static int Run(string[] args, TextWriter output)
@@ -89,6 +89,7 @@ public static class SimulateCommand
                             "gap-drift" => im with { GapDrift = false },
                             "glitches" => im with { Glitches = false },
                             "dropped-samples" => im with { DroppedSamples = false },
+                            "stated-inputs" => im with { StatedInputsDrawn = false },
                             _ => throw new UsageException($"--without: unknown imperfection '{name}'; known: {string.Join(", ", ImperfectionNames)}"),
                         };
                     }

@@ -52,7 +52,7 @@ public sealed record FitResult(double[] Parameters, double[,] Covariance, double
 public static class Statistics
 {
     /// <summary>P(chi^2_dof >= x).</summary>
-    public static double ChiSquareSurvival(double x, int dof) => 1 - MathNet.Numerics.Distributions.ChiSquared.CDF(dof, x);
+    public static double ChiSquareSurvival(double x, int dof) => x <= 0 ? 1 : MathNet.Numerics.SpecialFunctions.GammaUpperRegularized(dof / 2.0, x / 2);
 
     /// <summary>Two-sided Student's t quantile for a confidence level (e.g. 0.95) and degrees of freedom.</summary>
     public static double StudentT(double confidence, int dof) => MathNet.Numerics.Distributions.StudentT.InvCDF(0, 1, dof, 0.5 + confidence / 2);

@@ -34,7 +34,24 @@ public sealed record SimulationRequest(string OutputFolder, Scenario Scenario, u
 /// <param name="Seed">The seed.</param>
 /// <param name="Scenario">All scenario parameters.</param>
 /// <param name="Runs">Per-run truth and step truths.</param>
-public sealed record NightTruth(ulong Seed, Scenario Scenario, IReadOnlyList<RunTruthWithSteps> Runs);
+public sealed record NightTruth(ulong Seed, Scenario Scenario, IReadOnlyList<RunTruthWithSteps> Runs)
+{
+    /// <summary>The physical inputs the night truly had.</summary>
+    public required TrueInputs Inputs { get; init; }
+}
+
+/// <summary>
+/// The night's true physical inputs. The run files state the scenario's values with their uncertainties; with
+/// <see cref="Imperfections.StatedInputsDrawn"/> on, the truth is drawn once per night from those statements (so
+/// the comparison's bands can be checked for coverage over many nights), else it is the stated value.
+/// </summary>
+/// <param name="Radius">Sphere radius (m).</param>
+/// <param name="Temperature">Temperature (K).</param>
+/// <param name="PlasmaFrequencyEv">Plasma frequency of the gold (eV).</param>
+/// <param name="DampingEv">Drude damping (eV).</param>
+/// <param name="Theta">Beyond-PFA coefficient of the gradient and the force.</param>
+/// <param name="Amplitude">Oscillation amplitude (m), frequency mode.</param>
+public sealed record TrueInputs(double Radius, double Temperature, double PlasmaFrequencyEv, double DampingEv, double Theta, double Amplitude);
 
 /// <summary>A run's truth and its steps.</summary>
 /// <param name="Run">The run's parameters.</param>
@@ -51,6 +68,21 @@ public static class NightSimulator
         return Path.Combine(Path.GetDirectoryName(full)!, Path.GetFileName(full) + ".truth.json");
     }
 
+    /// <summary>The night's true inputs: the stated values, or draws from their stated uncertainties (own random stream).</summary>
+    public static TrueInputs DrawInputs(Scenario s, ulong seed)
+    {
+        var stated = new TrueInputs(s.Radius, s.Temperature, s.PlasmaFrequencyEv, s.DampingEv, 0, s.Amplitude);
+        if (!s.Imperfections.StatedInputsDrawn) return stated;
+        var r = new RandomSource(seed ^ 0x1A9E75UL);
+        return new TrueInputs(
+            s.Radius + Scenario.RadiusSigma * r.NextGaussian(),
+            s.Temperature + Scenario.TemperatureSigma * r.NextGaussian(),
+            s.PlasmaFrequencyEv + Scenario.PlasmaFrequencySigmaEv * r.NextGaussian(),
+            Math.Max(1e-4, s.DampingEv + Scenario.DampingSigmaEv * r.NextGaussian()),
+            Scenario.ThetaSigma * r.NextGaussian(),
+            Math.Max(0, s.Amplitude * (1 + Scenario.AmplitudeRelativeSigma * r.NextGaussian())));
+    }
+
     /// <summary>Simulates and writes the night; returns the truth that was written.</summary>
     public static NightTruth Simulate(SimulationRequest request)
     {
@@ -62,16 +94,17 @@ public static class NightSimulator
         Directory.CreateDirectory(folder);
 
         var random = new RandomSource(request.Seed);
+        TrueInputs inputs = DrawInputs(s, request.Seed);
         double ev = Codata2018.ElectronVoltAngularFrequency.Value;
         IPermittivity gold = s.TruthTheory.Equals("plasma", StringComparison.OrdinalIgnoreCase)
-            ? new PlasmaModel(s.PlasmaFrequencyEv * ev)
-            : new DrudeModel(s.PlasmaFrequencyEv * ev, s.DampingEv * ev);
-        var geometry = new SpherePlateGeometry(s.Radius, 0, 0, s.SphereRoughness * s.SphereRoughness + s.PlateRoughness * s.PlateRoughness);
-        double low = Math.Max(10e-9, s.NearestGap * 0.5 - s.Amplitude * 2);
+            ? new PlasmaModel(inputs.PlasmaFrequencyEv * ev)
+            : new DrudeModel(inputs.PlasmaFrequencyEv * ev, inputs.DampingEv * ev);
+        var geometry = new SpherePlateGeometry(inputs.Radius, inputs.Theta, inputs.Theta, s.SphereRoughness * s.SphereRoughness + s.PlateRoughness * s.PlateRoughness);
+        double low = Math.Max(10e-9, s.NearestGap * 0.5 - s.Amplitude * 4);
         double high = s.EffectiveReferenceGap * 1.2 + 200e-9;
-        // The force tables depend only on the physics, not on the seed: nights of one scenario share them.
-        var key = new ForceKey(s.TruthTheory.ToLowerInvariant(), s.PlasmaFrequencyEv, s.DampingEv, s.Temperature, geometry, low, high);
-        ForceModel forces = ForceTables.GetOrAdd(key, _ => new ForceModel(new LifshitzCalculator(gold, gold, s.Temperature), geometry, low, high));
+        // The force tables depend only on the physics, not on the seed: nights with the same inputs share them.
+        var key = new ForceKey(s.TruthTheory.ToLowerInvariant(), inputs.PlasmaFrequencyEv, inputs.DampingEv, inputs.Temperature, geometry, low, high);
+        ForceModel forces = ForceTables.GetOrAdd(key, _ => new ForceModel(new LifshitzCalculator(gold, gold, inputs.Temperature), geometry, low, high));
 
         // One piezo per night: its true scale is drawn once from the stated 1 ± sigma.
         double piezoScale = s.Imperfections.PiezoScaleError ? 1 + s.PiezoScaleSigma * new RandomSource(request.Seed ^ 0x5CA1EUL).NextGaussian() : 1.0;
@@ -94,7 +127,7 @@ public static class NightSimulator
                 s.ResidualPotentialTimeSlope,
                 s.NearestGap,
                 s.GapDriftRate,
-                s.Mode == SimulatedMode.FrequencyShift ? s.Amplitude : 0);
+                s.Mode == SimulatedMode.FrequencyShift ? inputs.Amplitude : 0);
             double biasCentre = 0.015; // the operator's estimate of V0
             IReadOnlyList<Segment> schedule = s.Protocol == SimulatedProtocol.VoltageSteps
                 ? Schedules.VoltageSteps(s, s.GapOffset, biasCentre, r, runRandom.Fork(7))
@@ -118,7 +151,7 @@ public static class NightSimulator
             runs.Add(new RunTruthWithSteps(truth, steps));
         }
         File.WriteAllText(Path.Combine(folder, "night.toml"), NightToml(s, request.Seed));
-        var night = new NightTruth(request.Seed, s, runs);
+        var night = new NightTruth(request.Seed, s, runs) { Inputs = inputs };
         File.WriteAllText(TruthPath(folder), JsonSerializer.Serialize(night, JsonOptions));
         return night;
     }
@@ -152,7 +185,7 @@ public static class NightSimulator
         if (frequency)
         {
             w.Append("free_frequency = \"auto\"\n");
-            w.Append($"amplitude = \"{Text.Q(s.Amplitude, 0.1 * s.Amplitude, "nm")}\"\n");
+            w.Append($"amplitude = \"{Text.Q(s.Amplitude, Scenario.AmplitudeRelativeSigma * s.Amplitude, "nm")}\"\n");
         }
         else
         {
@@ -161,15 +194,15 @@ public static class NightSimulator
         }
         double referenceBeyond = 0.8 * s.EffectiveReferenceGap; // beyond 80% of the reference gap: force-free data
         w.Append($"reference_beyond = \"{Text.Q(Math.Round(referenceBeyond * 1e9) * 1e-9 - s.GapOffset, "nm")}\"\n\n");
-        w.Append($"[sphere]\nradius = \"{Text.Q(s.Radius, 0.2e-6, "um")}\"\n\n");
+        w.Append($"[sphere]\nradius = \"{Text.Q(s.Radius, Scenario.RadiusSigma, "um")}\"\n\n");
         w.Append($"[piezo]\nscale = \"1.000 ± {Text.N(s.PiezoScaleSigma)}\"\ndirection = \"away\"\n\n");
         w.Append("[surfaces]\n");
-        w.Append($"temperature = \"{Text.Q(s.Temperature, 0.5, "K")}\"\n");
+        w.Append($"temperature = \"{Text.Q(s.Temperature, Scenario.TemperatureSigma, "K")}\"\n");
         w.Append($"sphere_roughness = \"{Text.Q(s.SphereRoughness, "nm")}\"\n");
         w.Append($"plate_roughness = \"{Text.Q(s.PlateRoughness, "nm")}\"\n");
-        w.Append("pfa_correction = \"0.0 ± 0.5\"\n\n");
-        w.Append($"[materials.gold-drude]\nmodel = \"drude\"\nplasma_frequency = \"{Text.N(s.PlasmaFrequencyEv)} ± 0.05 eV\"\ndamping = \"{Text.N(s.DampingEv)} ± 0.005 eV\"\n\n");
-        w.Append($"[materials.gold-plasma]\nmodel = \"plasma\"\nplasma_frequency = \"{Text.N(s.PlasmaFrequencyEv)} ± 0.05 eV\"\n\n");
+        w.Append($"pfa_correction = \"0.0 ± {Text.N(Scenario.ThetaSigma)}\"\n\n");
+        w.Append($"[materials.gold-drude]\nmodel = \"drude\"\nplasma_frequency = \"{Text.N(s.PlasmaFrequencyEv)} ± {Text.N(Scenario.PlasmaFrequencySigmaEv)} eV\"\ndamping = \"{Text.N(s.DampingEv)} ± {Text.N(Scenario.DampingSigmaEv)} eV\"\n\n");
+        w.Append($"[materials.gold-plasma]\nmodel = \"plasma\"\nplasma_frequency = \"{Text.N(s.PlasmaFrequencyEv)} ± {Text.N(Scenario.PlasmaFrequencySigmaEv)} eV\"\n\n");
         w.Append("[[theory]]\nname = \"Drude\"\nsphere = \"gold-drude\"\nplate = \"gold-drude\"\n\n");
         w.Append("[[theory]]\nname = \"plasma\"\nsphere = \"gold-plasma\"\nplate = \"gold-plasma\"\n");
         return w.ToString();

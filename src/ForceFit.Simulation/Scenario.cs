@@ -28,6 +28,7 @@ public enum SimulatedProtocol
 /// <param name="GapDrift">Slow drift of the gap offset.</param>
 /// <param name="Glitches">Occasional spikes in the signal.</param>
 /// <param name="DroppedSamples">Occasional missing rows.</param>
+/// <param name="StatedInputsDrawn">True radius, temperature, plasma frequency, damping, beyond-PFA coefficient and amplitude drawn from the stated values ± their uncertainties instead of exactly the stated values.</param>
 public sealed record Imperfections(
     bool CorrelatedNoise = true,
     bool ReadoutNoise = true,
@@ -37,10 +38,11 @@ public sealed record Imperfections(
     bool PiezoScaleError = true,
     bool GapDrift = true,
     bool Glitches = true,
-    bool DroppedSamples = true)
+    bool DroppedSamples = true,
+    bool StatedInputsDrawn = true)
 {
     /// <summary>An ideal night: only white noise of the stated size.</summary>
-    public static Imperfections None { get; } = new(false, false, false, false, false, false, false, false, false);
+    public static Imperfections None { get; } = new(false, false, false, false, false, false, false, false, false, false);
 }
 
 /// <summary>
@@ -95,6 +97,18 @@ public sealed record Scenario
     /// true scale of each night is drawn from that distribution (so pulls over many nights test its propagation).
     /// </summary>
     public double PiezoScaleSigma { get; init; } = 0.005;
+    /// <summary>Stated standard uncertainty of the sphere radius (m), written into the run files.</summary>
+    public const double RadiusSigma = 0.2e-6;
+    /// <summary>Stated standard uncertainty of the temperature (K).</summary>
+    public const double TemperatureSigma = 0.5;
+    /// <summary>Stated standard uncertainty of the plasma frequency (eV).</summary>
+    public const double PlasmaFrequencySigmaEv = 0.05;
+    /// <summary>Stated standard uncertainty of the Drude damping (eV).</summary>
+    public const double DampingSigmaEv = 0.005;
+    /// <summary>Stated standard uncertainty of the beyond-PFA coefficient (stated value 0).</summary>
+    public const double ThetaSigma = 0.5;
+    /// <summary>Stated relative uncertainty of the oscillation amplitude.</summary>
+    public const double AmplitudeRelativeSigma = 0.1;
     /// <summary>Residual potential V0 (V) at the reference gap.</summary>
     public double ResidualPotential { get; init; } = 0.021;
     /// <summary>Change of V0 with gap (V/m).</summary>

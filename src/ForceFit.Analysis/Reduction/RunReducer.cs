@@ -43,7 +43,10 @@ public static class RunReducer
             Core down = Compute(segments, with(nominal, -sigma), core, null);
             sources.Add(Difference(name, core, up, down, shared));
         }
-        // The piezo scale is fitted with its statement as a prior, so its uncertainty is inside the calibration's.
+        // The piezo scale is the same physical piezo for every run of a night: a shared systematic, varied by its stated
+        // sigma with z0 and k refitted (fitting it per run with its statement as a prior would count the prior once per run
+        // when the runs are combined, and the data of one run barely constrain it).
+        Vary("piezo scale", (c, d) => c with { Scale = c.Scale + d }, run.Piezo.Scale.Sigma, true);
         Vary("radius", (c, d) => c with { Radius = c.Radius + d }, run.Theory.Sphere.Radius.Sigma, true);
         if (run.Instrument.Mode == InstrumentMode.FrequencyShift)
             Vary("amplitude", (c, d) => c with { Amplitude = Math.Max(0, c.Amplitude + d) }, run.Instrument.Amplitude.Sigma, true);
@@ -57,6 +60,7 @@ public static class RunReducer
             GapOffset = Total(core.Calibration.GapOffset.Value, core.Calibration.GapOffset.StatisticalSigma, s => s.GapOffset),
             SpringConstant = Total(core.Calibration.SpringConstant.Value, core.Calibration.SpringConstant.StatisticalSigma, s => s.SpringConstant),
             Sensitivity = core.Calibration.Sensitivity is { } sens ? Total(sens.Value, sens.StatisticalSigma, s => s.Sensitivity) : null,
+            PiezoScale = new Estimate(run.Piezo.Scale.Value, run.Piezo.Scale.Sigma, 0),
         };
         // Compute wrote the nominal pass's warnings into this list already (core.Warnings is the same list).
         return new RunResult(run.Name, calibration, core.Positions, core.Separation, core.Value, core.PointTime, core.RandomCovariance, sources,
@@ -130,7 +134,7 @@ public static class RunReducer
                 $"[instrument] reference_beyond: no reference steps beyond {(run.Instrument.ReferenceBeyond is { } rb ? rb.Value * 1e9 + " nm" : "'reference_beyond'")}: the free {(frequency ? "frequency" : "deflection signal")} cannot be found; give reference steps or state '{(frequency ? "free_frequency" : "deflection_free")}'"));
         var electrostatics = ElectrostaticTable.For(c.Radius);
         int sign = run.Piezo.Sign;
-        double scaleSigma = run.Piezo.Scale.Sigma;
+        const double scaleSigma = 0; // the piezo scale is held at its stated value here (see Reduce)
         // A variation of the constants starts from the nominal reduction's free signal and curve shape: one pass.
         FreeSignalTrack track = start?.Track ?? (givenFree is { } g ? FreeSignalTrack.Given(g.Value, g.Sigma) : FreeSignalTrack.FromReferences(
             references.Select(r => new FreeSignalPoint(r.MeanTime, r.Mean, r.Sigma)).ToArray()));

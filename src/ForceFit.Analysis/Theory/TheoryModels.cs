@@ -63,7 +63,7 @@ public static class TheoryModels
 
     private static OpticalDataModel Optical(MaterialSettings m)
     {
-        OpticalTable table = SurfaceTables.ReadOptical(m.TablePath!);
+        OpticalTable table = FileCache.Get(m.TablePath!, SurfaceTables.ReadOptical);
         OpticalTail tail = m.Tail == MaterialModel.Plasma ? OpticalTail.Plasma : OpticalTail.Drude;
         return new OpticalDataModel(table.AngularFrequencies, table.N, table.K, tail, m.PlasmaFrequency!.Value.Value, m.Damping?.Value ?? 0);
     }
@@ -100,7 +100,7 @@ public static class TheoryModels
         double Rms(Roughness r) => r.Rms?.Value ?? 0;
         rmsVariance = Math.Pow(Rms(s.SphereRoughness), 2) + Math.Pow(Rms(s.PlateRoughness), 2);
         if (s.SphereRoughness.HistogramPath is null && s.PlateRoughness.HistogramPath is null) return null;
-        HeightDistribution Of(Roughness r) => r.HistogramPath is { } path ? SurfaceTables.ReadHeights(path) : Gaussian(Rms(r));
+        HeightDistribution Of(Roughness r) => r.HistogramPath is { } path ? FileCache.Get(path, SurfaceTables.ReadHeights) : Gaussian(Rms(r));
         return RoughnessAveraging.Combine(Of(s.SphereRoughness), Of(s.PlateRoughness), bins: 64);
     }
 
@@ -111,6 +111,25 @@ public static class TheoryModels
         var w = h.Select(x => Math.Exp(-x * x / (2 * rms * rms))).ToArray();
         double total = w.Sum();
         return new HeightDistribution(h, w.Select(v => v / total).ToArray());
+    }
+}
+
+/// <summary>
+/// Tables read from files, kept by path, size and modification time, so that the Monte Carlo draws of a comparison
+/// (which prepare the theories again for every draw) read each optical-data or height table once.
+/// </summary>
+internal static class FileCache
+{
+    private static readonly System.Collections.Concurrent.ConcurrentDictionary<(string, long, DateTime, Type), object> Tables = new();
+
+    public static T Get<T>(string path, Func<string, T> read) where T : class
+    {
+        var info = new FileInfo(path);
+        var key = (Path.GetFullPath(path), info.Exists ? info.Length : -1, info.Exists ? info.LastWriteTimeUtc : default, typeof(T));
+        if (Tables.TryGetValue(key, out object? found)) return (T)found;
+        T value = read(path);
+        Tables[key] = value;
+        return value;
     }
 }
 

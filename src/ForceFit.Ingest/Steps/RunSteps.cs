@@ -44,7 +44,11 @@ public sealed record SegmentStatistics(
 /// <param name="Samples">Samples read.</param>
 /// <param name="Bytes">Bytes of input read.</param>
 /// <param name="Warnings">Things the analysis should report.</param>
-public sealed record RunSegments(RunSettings Run, IReadOnlyList<SegmentStatistics> Segments, NoiseModel Noise, StepThresholds Thresholds, long Samples, long Bytes, IReadOnlyList<string> Warnings);
+public sealed record RunSegments(RunSettings Run, IReadOnlyList<SegmentStatistics> Segments, NoiseModel Noise, StepThresholds Thresholds, long Samples, long Bytes, IReadOnlyList<string> Warnings)
+{
+    /// <summary>Minimum/maximum envelope of the raw channels and the first samples, for the report's figures.</summary>
+    public SignalEnvelope? Envelope { get; init; }
+}
 
 /// <summary>
 /// Reads a run's data in one streaming pass and reduces it to steps (voltage-steps) or gap bins
@@ -63,6 +67,7 @@ public static class RunSteps
         var warnings = new List<string>();
         var pending = new List<Raw>();
         var noise = new NoiseModel.Accumulator(MaxLag);
+        var envelope = new EnvelopeBuilder();
         Segmenter? segmenter = null;
         long samples = 0;
         while (source.Read(block))
@@ -73,7 +78,11 @@ public static class RunSteps
                 StepThresholds t = StepThresholds.Estimate(block.Piezo.AsSpan(0, block.Count), block.Bias.AsSpan(0, block.Count));
                 segmenter = run.Protocol == Protocol.VoltageSteps ? new StepSegmenter(run, t, pending, noise) : new RampSegmenter(run, t, pending, noise);
             }
-            for (int i = 0; i < block.Count; i++) segmenter.Add(block.Time[i], block.Piezo[i], block.Bias[i], block.Signal[i], block.Lines[i]);
+            for (int i = 0; i < block.Count; i++)
+            {
+                segmenter.Add(block.Time[i], block.Piezo[i], block.Bias[i], block.Signal[i], block.Lines[i]);
+                envelope.Add(block.Time[i], block.Piezo[i], block.Bias[i], block.Signal[i]);
+            }
             samples += block.Count;
             progress?.Report(source.BytesRead);
         }
@@ -88,7 +97,7 @@ public static class RunSteps
             warnings.Add($"{run.DataFile}: the signal's correlation time ({model.IntegratedTime:F0} samples) needs a longer window than the {MaxLag} lags computed; the step uncertainties may be too small");
         int clipped = segments.Sum(s => s.Clipped);
         if (clipped > 0) warnings.Add($"{run.DataFile}: {clipped} sample(s) in {segments.Count(s => s.Clipped > 0)} step(s) were more than 10 robust sigmas from their step and were left out as glitches");
-        return new RunSegments(run, segments, model, segmenter.Thresholds, samples, source.Length, warnings);
+        return new RunSegments(run, segments, model, segmenter.Thresholds, samples, source.Length, warnings) { Envelope = envelope.Build() };
     }
 
     /// <summary>A closed step or bin before its sigma is known.</summary>

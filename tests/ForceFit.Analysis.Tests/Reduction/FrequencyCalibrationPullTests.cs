@@ -34,7 +34,7 @@ public sealed class FrequencyCalibrationPullTests : TemporaryFolderTest
             // z0 is quoted at the mean time of the run's steps; the truth drifts linearly from its t = 0 value.
             double z0True = t.GapOffset + t.GapDriftRate * c.ReferenceTime;
             // V0 at the nearest position, at that position's mean time and true gap (RunGenerator.ResidualPotential).
-            var (v0, v0Sigma, _, _, _) = ReductionOutputs.ResidualPotential(result);
+            var (v0, v0Sigma, _, _, _) = NightPipeline.ResidualPotential(result);
             PositionFit nearest = result.Positions.MinBy(p => p.Separation)!;
             var nearestSteps = truth.Runs[0].Steps.Where(s => !s.IsReference && Math.Abs(s.Piezo - nearest.Piezo) < 1e-9).ToArray();
             double gap = nearestSteps.Average(s => s.MeanGap);

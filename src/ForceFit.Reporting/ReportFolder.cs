@@ -3,50 +3,32 @@ using System.Security.Cryptography;
 using System.Text;
 using System.Text.Json;
 using System.Text.Json.Nodes;
+using ForceFit.Analysis.Comparison;
+using ForceFit.Analysis.Reduction;
 using ForceFit.Analysis.Tables;
 using ForceFit.Core.Problems;
 using ForceFit.Fitting;
 using ForceFit.Ingest.RunFiles;
 using ForceFit.Ingest.Steps;
 
-namespace ForceFit.Analysis.Reduction;
+using ForceFit.Reporting.Document;
+using ForceFit.Reporting.Figures;
 
-/// <summary>A reduced night: every run's steps and result.</summary>
-/// <param name="Night">The settings.</param>
-/// <param name="Segments">Each run's steps.</param>
-/// <param name="Runs">Each run's reduction.</param>
-public sealed record NightReduction(NightSettings Night, IReadOnlyList<RunSegments> Segments, IReadOnlyList<RunResult> Runs)
-{
-    /// <summary>Frequency-shift or deflection (one mode per night).</summary>
-    public bool Frequency => Night.Runs[0].Instrument.Mode == InstrumentMode.FrequencyShift;
+namespace ForceFit.Reporting;
 
-    /// <summary>Reasons the result cannot be trusted (exit status 3), empty when it can.</summary>
-    public IReadOnlyList<string> TrustProblems => Runs
-        .Where(r => !r.Calibration.Converged)
-        .Select(r => $"{r.Run}: the calibration fit did not converge ({r.Calibration.Stop})")
-        .Concat(Runs.Where(r => r.Calibration.DegreesOfFreedom > 0 && r.Calibration.PValue < 1e-6)
-            .Select(r => $"{r.Run}: the calibration fit is inconsistent with the uncertainties (chi2 = {r.Calibration.ChiSquare.ToString("F1", CultureInfo.InvariantCulture)} for {r.Calibration.DegreesOfFreedom}, p = {r.Calibration.PValue.ToString("G2", CultureInfo.InvariantCulture)})"))
-        .ToArray();
-}
+/// <summary>An input file as recorded in the provenance.</summary>
+/// <param name="Path">Full path.</param>
+/// <param name="Bytes">Size.</param>
+/// <param name="Sha256">SHA-256, lower-case hex.</param>
+public sealed record InputFile(string Path, long Bytes, string Sha256);
 
 /// <summary>
 /// Writes a reduction's report folder (run-files.md, Outputs): summary.json, provenance.json, tables/steps.csv,
 /// tables/parabolas.csv, tables/reduced.csv, tables/budget.csv and a plain report.md. Everything is written into a
 /// temporary folder beside the target and moved into place at the end, so a failure never leaves half a report.
 /// </summary>
-public static class ReductionOutputs
+public static class ReportFolder
 {
-    /// <summary>Reads, reduces and returns a night (no files written).</summary>
-    public static NightReduction Reduce(NightSettings night, CancellationToken cancel = default)
-    {
-        if (night.Runs.Select(r => r.Instrument.Mode).Distinct().Count() > 1)
-            throw new InputException(new Problem(night.Folder, null, "the night mixes frequency-shift and deflection runs; reduce them separately"));
-        var segments = night.Runs.Select(r => RunSteps.Read(r, cancel: cancel)).ToArray();
-        var results = new RunResult[segments.Length];
-        Parallel.For(0, segments.Length, new ParallelOptions { CancellationToken = cancel }, i => results[i] = RunReducer.Reduce(segments[i]));
-        return new NightReduction(night, segments, results);
-    }
-
     /// <summary>Writes the report folder atomically; an existing folder is replaced only with <paramref name="force"/>.</summary>
     public static void Write(NightReduction reduction, string outFolder, bool force, string commandLine, DateTimeOffset now, string toolVersion)
     {
@@ -65,10 +47,22 @@ public static class ReductionOutputs
             StepsTable.Write(Path.Combine(temporary, "tables", "steps.csv"), reduction.Segments);
             WriteParabolas(Path.Combine(temporary, "tables", "parabolas.csv"), reduction);
             WriteReduced(Path.Combine(temporary, "tables", "reduced.csv"), reduction);
+            WriteRunPoints(Path.Combine(temporary, "tables", "run-points.csv"), reduction);
+            WriteTheory(Path.Combine(temporary, "tables", "theory.csv"), reduction);
             WriteBudget(Path.Combine(temporary, "tables", "budget.csv"), reduction);
             File.WriteAllText(Path.Combine(temporary, "summary.json"), Summary(reduction));
-            File.WriteAllText(Path.Combine(temporary, "provenance.json"), Provenance(reduction, commandLine, now, toolVersion));
-            File.WriteAllText(Path.Combine(temporary, "report.md"), ReportMarkdown(reduction));
+            IReadOnlyList<InputFile> inputs = Inputs(reduction);
+            File.WriteAllText(Path.Combine(temporary, "provenance.json"), Provenance(reduction, inputs, commandLine, now, toolVersion));
+            IReadOnlyList<Figure> figures = NightFigures.Draw(reduction);
+            Directory.CreateDirectory(Path.Combine(temporary, "figures"));
+            foreach (Figure f in figures)
+            {
+                File.WriteAllText(Path.Combine(temporary, "figures", f.Name + ".svg"), f.Svg);
+                File.WriteAllBytes(Path.Combine(temporary, "figures", f.Name + ".png"), f.Png);
+            }
+            var document = ReportDocument.Build(reduction, figures, inputs, commandLine, now, toolVersion);
+            File.WriteAllText(Path.Combine(temporary, "report.md"), MarkdownRenderer.Render(document));
+            File.WriteAllText(Path.Combine(temporary, "report.html"), HtmlRenderer.Render(ReportDocument.Title(reduction), document));
             if (Directory.Exists(target)) Directory.Delete(target, recursive: true);
             Directory.Move(temporary, target);
         }
@@ -97,40 +91,62 @@ public static class ReductionOutputs
         CsvTable.Write(path, header, rows);
     }
 
+    // P = −F'/(2 pi R) (physics.md, PFA); in deflection mode the force gives E = F/(2 pi R) instead, so the column is empty.
+    private static string Pressure(NightReduction r, double value) =>
+        r.Frequency ? N(-value / (2 * Math.PI * r.Night.Runs[0].Theory.Sphere.Radius.Value)) : "";
+
     private static void WriteReduced(string path, NightReduction r)
     {
-        // One row per run and position (the combination of runs onto a common grid is not part of this version);
-        // the run column comes first so that the documented columns keep their names.
-        string[] header = ["run", "separation_m", ValueColumn(r), "sigma_random", "sigma_systematic", "equivalent_pressure_Pa"];
+        // The night on its common grid (run-files.md columns first, then the combination's own columns).
+        CombinedNight c = r.Combined;
+        string[] header = ["separation_m", ValueColumn(r), "sigma_random", "sigma_systematic", "equivalent_pressure_Pa", "runs", "birge_ratio", "ci95_half_width"];
+        double[] random = c.RandomSigma, systematic = c.SystematicSigma;
+        var rows = Enumerable.Range(0, c.Value.Length).Select(j => (IReadOnlyList<string>)
+        [
+            N(c.Separation[j]), N(c.Value[j]), N(random[j]), N(systematic[j]), Pressure(r, c.Value[j]),
+            c.RunsAtPoint[j].ToString(CultureInfo.InvariantCulture), N(c.BirgeRatio[j]), N(c.HalfWidth95[j]),
+        ]);
+        CsvTable.Write(path, header, rows);
+    }
+
+    private static void WriteRunPoints(string path, NightReduction r)
+    {
+        string[] header = ["run", "separation_m", ValueColumn(r), "sigma_random", "sigma_systematic", "equivalent_pressure_Pa", "time_s", "amplitude_correction"];
         var rows = new List<IReadOnlyList<string>>();
-        foreach ((RunResult run, RunSettings settings) in r.Runs.Zip(r.Night.Runs))
+        foreach (RunResult run in r.Runs)
         {
             double[] random = run.RandomSigma, systematic = run.SystematicSigma;
-            double radius = settings.Theory.Sphere.Radius.Value;
             for (int j = 0; j < run.Value.Length; j++)
-            {
-                // P = −F'/(2 pi R) (physics.md, PFA); in deflection mode the force gives E = F/(2 pi R) instead, so the column is empty.
-                string pressure = r.Frequency ? N(-run.Value[j] / (2 * Math.PI * radius)) : "";
-                rows.Add([run.Run, N(run.Separation[j]), N(run.Value[j]), N(random[j]), N(systematic[j]), pressure]);
-            }
+                rows.Add([run.Run, N(run.Separation[j]), N(run.Value[j]), N(random[j]), N(systematic[j]), Pressure(r, run.Value[j]), N(run.PointTime[j]), N(run.AmplitudeCorrection[j])]);
         }
+        CsvTable.Write(path, header, rows);
+    }
+
+    private static void WriteTheory(string path, NightReduction r)
+    {
+        string[] header = ["theory", "separation_m", "value", "band_low", "band_high", "linear_sigma", "monte_carlo_sigma", "quantity"];
+        string quantity = r.Frequency ? "force_gradient_N_per_m" : "force_N";
+        var rows = r.Comparison.SelectMany(t => Enumerable.Range(0, t.Value.Length).Select(j => (IReadOnlyList<string>)
+        [
+            t.Theory, N(r.Combined.Separation[j]), N(t.Value[j]), N(t.BandLow[j]), N(t.BandHigh[j]), N(t.LinearSigma[j]), N(t.MonteCarloSigma[j]), quantity,
+        ]));
         CsvTable.Write(path, header, rows);
     }
 
     private static void WriteBudget(string path, NightReduction r)
     {
-        string[] header = ["run", "source", "separation_m", "contribution"];
+        // The night's error budget per separation: the statistical part, every systematic source, their total.
+        string[] header = ["source", "separation_m", "contribution"];
+        CombinedNight c = r.Combined;
         var rows = new List<IReadOnlyList<string>>();
-        foreach (RunResult run in r.Runs)
+        void Add(string source, double[] sigma)
         {
-            double[] random = run.RandomSigma;
-            for (int j = 0; j < run.Value.Length; j++) rows.Add([run.Run, "statistical", N(run.Separation[j]), N(random[j])]);
-            foreach (SystematicSource s in run.Systematics)
-            {
-                double[] sigma = s.PointSigma();
-                for (int j = 0; j < run.Value.Length; j++) rows.Add([run.Run, s.Name, N(run.Separation[j]), N(sigma[j])]);
-            }
+            for (int j = 0; j < sigma.Length; j++) rows.Add([source, N(c.Separation[j]), N(sigma[j])]);
         }
+        Add("statistical", c.RandomSigma);
+        foreach ((string source, double[] sigma) in c.Budget()) Add(source, sigma);
+        Add("systematic total", c.SystematicSigma);
+        Add("total", c.RandomSigma.Zip(c.SystematicSigma, (x, y) => Math.Sqrt(x * x + y * y)).ToArray());
         CsvTable.Write(path, header, rows);
     }
 
@@ -138,19 +154,12 @@ public static class ReductionOutputs
 
     private static JsonObject Pair(double value, double sigma) => new() { ["value"] = value, ["sigma"] = sigma };
 
-    /// <summary>V0 at the run's nearest position, and the weighted straight-line slope of V0 against separation.</summary>
-    public static (double V0, double V0Sigma, double Slope, double SlopeSigma, double Separation) ResidualPotential(RunResult run)
-    {
-        (FitResult line, double nearest) = RunReducer.ResidualPotentialLine(run.Positions);
-        return (line.Parameters[0], Math.Sqrt(line.Covariance[0, 0]), line.Parameters[1], Math.Sqrt(line.Covariance[1, 1]), nearest);
-    }
-
     private static string Summary(NightReduction r)
     {
         var runs = new JsonArray();
         foreach (RunResult run in r.Runs)
         {
-            var v0 = ResidualPotential(run);
+            var v0 = NightPipeline.ResidualPotential(run);
             var o = new JsonObject
             {
                 ["name"] = run.Run,
@@ -179,12 +188,47 @@ public static class ReductionOutputs
             ["trusted"] = r.TrustProblems.Count == 0,
             ["trust_problems"] = new JsonArray(r.TrustProblems.Select(t => (JsonNode)t).ToArray()),
             ["runs"] = runs,
-            ["comparison"] = new JsonArray(),
+            ["night"] = Night(r),
+            ["comparison"] = new JsonArray(r.Comparison.Select(t => (JsonNode)Comparison(t)).ToArray()),
         };
         return summary.ToJsonString(new JsonSerializerOptions { WriteIndented = true, NumberHandling = System.Text.Json.Serialization.JsonNumberHandling.AllowNamedFloatingPointLiterals }) + "\n";
     }
 
-    private static string Provenance(NightReduction r, string commandLine, DateTimeOffset now, string toolVersion)
+    private static JsonObject Night(NightReduction r) => new()
+    {
+        ["points"] = r.Combined.Value.Length,
+        ["separation_min_m"] = r.Combined.Separation.Min(),
+        ["separation_max_m"] = r.Combined.Separation.Max(),
+        ["birge_ratio"] = r.Combined.OverallBirgeRatio,
+        ["flagged_runs"] = new JsonArray(r.Flags.Select(f => (JsonNode)f).ToArray()),
+        ["run_consistency"] = new JsonArray(r.Combined.Consistency.Select(c => (JsonNode)new JsonObject
+        {
+            ["run"] = c.Run, ["points"] = c.Points, ["chi2"] = c.ChiSquare, ["p_value"] = c.PValue, ["flagged"] = c.Flagged,
+        }).ToArray()),
+    };
+
+    private static JsonObject Comparison(TheoryResult t)
+    {
+        var o = new JsonObject
+        {
+            ["theory"] = t.Theory,
+            ["chi2"] = t.ChiSquare,
+            ["dof"] = t.DegreesOfFreedom,
+            ["p_value"] = t.PValue,
+            ["chi2_random_only"] = t.RandomChiSquare,
+            ["p_value_random_only"] = t.RandomPValue,
+            ["excluded_95"] = t.Excluded95,
+            ["excluded_99_7"] = t.Excluded997,
+            ["verdict"] = t.Verdict,
+            ["band_disagreement_separations_m"] = new JsonArray(t.BandDisagreement.Select(x => (JsonNode)x).ToArray()),
+        };
+        if (t.BeyondPfa is { } theta) o["beyond_pfa_theta"] = new JsonObject { ["value"] = theta.Value, ["sigma"] = theta.Sigma, ["chi2"] = theta.ChiSquare };
+        if (t.GapShift is { } g) o["casimir_gap_shift_m"] = new JsonObject { ["value"] = g.Value, ["sigma"] = g.Sigma, ["pull"] = t.GapShiftPull, ["chi2"] = g.ChiSquare };
+        return o;
+    }
+
+    /// <summary>Every input file of the night (run files, night.toml, data) with its size and SHA-256, in path order; opened read-only.</summary>
+    public static IReadOnlyList<InputFile> Inputs(NightReduction r)
     {
         var files = new SortedSet<string>(StringComparer.Ordinal);
         foreach (RunSettings run in r.Night.Runs)
@@ -193,12 +237,16 @@ public static class ReductionOutputs
             if (run.NightFile is not null) files.Add(run.NightFile);
             files.Add(run.DataFile);
         }
-        var inputs = new JsonArray();
-        foreach (string f in files)
+        return files.Select(f =>
         {
             using FileStream stream = new(f, FileMode.Open, FileAccess.Read, FileShare.Read);
-            inputs.Add(new JsonObject { ["path"] = f, ["bytes"] = stream.Length, ["sha256"] = Convert.ToHexStringLower(SHA256.HashData(stream)) });
-        }
+            return new InputFile(f, stream.Length, Convert.ToHexStringLower(SHA256.HashData(stream)));
+        }).ToArray();
+    }
+
+    private static string Provenance(NightReduction r, IReadOnlyList<InputFile> files, string commandLine, DateTimeOffset now, string toolVersion)
+    {
+        var inputs = new JsonArray(files.Select(f => (JsonNode)new JsonObject { ["path"] = f.Path, ["bytes"] = f.Bytes, ["sha256"] = f.Sha256 }).ToArray());
         var o = new JsonObject
         {
             ["tool"] = "forcefit",
@@ -209,11 +257,14 @@ public static class ReductionOutputs
             ["night_folder"] = r.Night.Folder,
             ["inputs"] = inputs,
             ["settings"] = JsonSerializer.SerializeToNode(r.Night.Runs.Select(Describe).ToArray()),
+            ["comparison_draws"] = r.Options.Draws,
+            ["comparison_seed"] = r.Options.Seed,
         };
         return o.ToJsonString(new JsonSerializerOptions { WriteIndented = true }) + "\n";
     }
 
-    private static Dictionary<string, string> Describe(RunSettings s) => new()
+    /// <summary>The resolved settings of a run as text, for provenance and the report.</summary>
+    public static Dictionary<string, string> Describe(RunSettings s) => new()
     {
         ["run"] = s.Name,
         ["mode"] = s.Instrument.Mode.ToString(),
@@ -227,52 +278,4 @@ public static class ReductionOutputs
         ["settle"] = s.Settle?.ToString() ?? "",
         ["reference_beyond"] = s.Instrument.ReferenceBeyond?.ToString() ?? "",
     };
-
-    private static string ReportMarkdown(NightReduction r)
-    {
-        var w = new StringBuilder();
-        string title = r.Night.Runs[0].Theory.Title;
-        w.Append("# ForceFit reduction: ").Append(Escape(title.Length > 0 ? title : Path.GetFileName(r.Night.Folder))).Append("\n\n");
-        if (r.TrustProblems.Count > 0)
-        {
-            w.Append("## Cannot be trusted\n\n");
-            foreach (string t in r.TrustProblems) w.Append("- ").Append(Escape(t)).Append('\n');
-            w.Append('\n');
-        }
-        var warnings = r.Runs.SelectMany(x => x.Warnings).Concat(r.Segments.SelectMany(s => s.Warnings)).ToArray();
-        if (warnings.Length > 0)
-        {
-            w.Append("## Warnings\n\n");
-            foreach (string t in warnings) w.Append("- ").Append(Escape(t)).Append('\n');
-            w.Append('\n');
-        }
-        w.Append("## Calibration per run\n\n");
-        w.Append("| run | z0 (nm) | k (N/m) | V0 at nearest position (mV) | dV0/da (mV/um) | s | chi2 / dof |\n| --- | --- | --- | --- | --- | --- | --- |\n");
-        foreach (RunResult run in r.Runs)
-        {
-            var v0 = ResidualPotential(run);
-            RunCalibration c = run.Calibration;
-            w.Append(CultureInfo.InvariantCulture, $"| {Escape(run.Run)} | {c.GapOffset.Value * 1e9:F3} ± {c.GapOffset.Sigma * 1e9:F3} | {c.SpringConstant.Value:G6} ± {c.SpringConstant.Sigma:G2} | {v0.V0 * 1e3:F4} ± {v0.V0Sigma * 1e3:F4} | {v0.Slope * 1e-3:F3} ± {v0.SlopeSigma * 1e-3:F3} | {c.PiezoScale?.Value:F5} ± {c.PiezoScale?.Sigma:F5} | {c.ChiSquare:F1} / {c.DegreesOfFreedom} |\n");
-        }
-        w.Append("\nz0 is quoted at the mean time of each run's steps; the gap drift and the drift of V0 with time are fitted with it.\n");
-        w.Append("The piezo scale is fitted with the stated value as a prior; when the data do not constrain it, its uncertainty is the stated one.\n\n");
-        w.Append("## Assumptions\n\n");
-        w.Append("- Reference steps are free of the Casimir force; their residual electrostatic force is corrected with V0 extrapolated along its fitted gap trend.\n");
-        w.Append("- The oscillation-amplitude correction (A^2/8) F''' and the small gap changes within a position use the smooth curve of the data themselves, not a theory.\n");
-        w.Append("- Comparison with theory is not part of this report version; no conclusion about any model is drawn here.\n\n");
-        w.Append("Tables: `tables/steps.csv`, `tables/parabolas.csv`, `tables/reduced.csv`, `tables/budget.csv`; numbers in `summary.json`; inputs and their SHA-256 in `provenance.json`.\n");
-        return w.ToString();
-    }
-
-    // Markdown-escapes text taken from the user's files.
-    private static string Escape(string s)
-    {
-        var b = new StringBuilder(s.Length);
-        foreach (char ch in s)
-        {
-            if ("\\`*_{}[]<>()#+-.!|".Contains(ch)) b.Append('\\');
-            b.Append(ch);
-        }
-        return b.ToString();
-    }
 }
