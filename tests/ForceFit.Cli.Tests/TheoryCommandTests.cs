@@ -213,7 +213,7 @@ public sealed class SimulateCommandTests
     [TestCase("--names a,b,c", "usage error: --names takes four column names (time, piezo, bias, signal) separated by commas, got 'a,b,c'")]
     [TestCase("--units piezo=kHz", "usage error: --units: 'kHz' is not a unit of a length for piezo")]
     [TestCase("--mode static", "usage error: --mode is frequency-shift or deflection, got 'static'")]
-    [TestCase("--without sparks", "usage error: --without: unknown imperfection 'sparks'; known: correlated-noise, readout-noise, settling, drift, v0-variation, piezo-scale, gap-drift, glitches, dropped-samples")]
+    [TestCase("--without sparks", "usage error: --without: unknown imperfection 'sparks'; known: correlated-noise, readout-noise, settling, drift, v0-variation, piezo-scale, gap-drift, glitches, dropped-samples, stated-inputs")]
     [TestCase("--runs 0", "usage error: --runs must be a whole number from 1 to 1000, got '0'")]
     public void Wrong_options_exit_2(string options, string message)
     {

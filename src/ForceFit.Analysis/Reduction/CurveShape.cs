@@ -5,8 +5,8 @@ namespace ForceFit.Analysis.Reduction;
 /// <summary>
 /// A smooth description of a measured curve F(a) (force or gradient), taken from the data themselves so that
 /// corrections stay independent of any theory: ln|F| as a weighted polynomial in ln a (degree 3 with at least 8
-/// significant points, 2 with 5–7, else a pure power law a^-3, the ideal-metal force law, as common practice for a
-/// first guess). It supplies the local slope dF/da (to turn gap errors into errors of F), F''/F (the
+/// significant points (4 with 16 or more), 2 with 5–7, else a pure power law a^-3, the ideal-metal force law, as
+/// common practice for a first guess). It supplies the local slope dF/da (to turn gap errors into errors of F), F''/F (the
 /// oscillation-amplitude correction) and the ratio used to interpolate between separations.
 /// </summary>
 public sealed class CurveShape
@@ -40,7 +40,7 @@ public sealed class CurveShape
             y.Add(Math.Log(v));
             s.Add(sigma[i] / v); // sigma of ln|F|
         }
-        int degree = u.Count >= 8 ? 3 : u.Count >= 5 ? 2 : -1;
+        int degree = u.Count >= 16 ? 4 : u.Count >= 8 ? 3 : u.Count >= 5 ? 2 : -1;
         if (degree < 0 || u.Distinct().Count() <= degree) return new CurveShape([0, -3], scale, sign);
         FitResult f = LinearLeastSquares.Polynomial(u, y, degree, s);
         return new CurveShape(f.Parameters, scale, sign);

@@ -3,6 +3,7 @@ using ForceFit.Core.Units;
 using ForceFit.Fitting;
 using ForceFit.Ingest.RunFiles;
 using ForceFit.Ingest.Steps;
+using ForceFit.Analysis.Theory;
 using ForceFit.Theory.Electrostatics;
 
 namespace ForceFit.Analysis.Reduction;
@@ -13,7 +14,11 @@ namespace ForceFit.Analysis.Reduction;
 /// <param name="Amplitude">Oscillation amplitude A (frequency mode).</param>
 /// <param name="SpringConstant">k when given, else null (fitted).</param>
 /// <param name="Sensitivity">m when given, else null (fitted or from k).</param>
-internal sealed record RunConstants(double Scale, double Radius, double Amplitude, double? SpringConstant, double? Sensitivity);
+/// <param name="ReferenceCasimir">The Casimir force gradient (frequency mode) or force (deflection) at a gap, from the
+/// settings' theories, felt by the reference steps; null when no theory is given (reference steps then taken as force-free).</param>
+/// <param name="ReferenceCasimirScale">Factor on it (1; varied for its systematic).</param>
+internal sealed record RunConstants(double Scale, double Radius, double Amplitude, double? SpringConstant, double? Sensitivity,
+    Func<double, double>? ReferenceCasimir = null, double ReferenceCasimirScale = 1);
 
 /// <summary>
 /// Reduces one run's steps (voltage-steps protocol) to a calibrated force gradient or force per piezo position
@@ -50,6 +55,8 @@ public static class RunReducer
         Vary("radius", (c, d) => c with { Radius = c.Radius + d }, run.Theory.Sphere.Radius.Sigma, true);
         if (run.Instrument.Mode == InstrumentMode.FrequencyShift)
             Vary("amplitude", (c, d) => c with { Amplitude = Math.Max(0, c.Amplitude + d) }, run.Instrument.Amplitude.Sigma, true);
+        if (nominal.ReferenceCasimir is not null)
+            Vary("reference-gap Casimir force", (c, d) => c with { ReferenceCasimirScale = 1 + d }, ReferenceCasimirRelativeSigma(run, core), true);
         if (run.Instrument.SpringConstant is { } k) Vary("spring constant (given)", (c, d) => c with { SpringConstant = k.Value + d }, k.Sigma, false);
         if (run.Instrument.DeflectionSensitivity is { } m) Vary("deflection sensitivity (given)", (c, d) => c with { Sensitivity = m.Value + d }, m.Sigma, false);
 
@@ -69,7 +76,32 @@ public static class RunReducer
 
     private static RunConstants Constants(RunSettings run) => new(
         run.Piezo.Scale.Value, run.Theory.Sphere.Radius.Value, run.Instrument.Mode == InstrumentMode.FrequencyShift ? run.Instrument.Amplitude.Value : 0,
-        run.Instrument.SpringConstant?.Value, run.Instrument.DeflectionSensitivity?.Value);
+        run.Instrument.SpringConstant?.Value, run.Instrument.DeflectionSensitivity?.Value, ReferenceCasimir(run));
+
+    // The reference steps are not force-free: at a few micrometres the Casimir gradient is still ~1e-4 of its value at
+    // 1 um, which biases f0 (or S_free) and hence every far point. It is taken from the settings' theories — their mean,
+    // which reduces the dependence on which one is right — at the reference gap of each pass.
+    private static Func<double, double>? ReferenceCasimir(RunSettings run)
+    {
+        if (run.Theory.Theories.Count == 0) return null;
+        IReadOnlyList<PreparedTheory> theories = TheoryModels.Prepare(run.Theory);
+        bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
+        return a => theories.Average(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; });
+    }
+
+    // Its relative uncertainty: half the spread of the theories at the mean reference gap (the models differ most in the
+    // thermal regime), or 20% with a single theory (our choice, stated in the report).
+    private static double ReferenceCasimirRelativeSigma(RunSettings run, Core core)
+    {
+        double[] gaps = core.ReferenceGaps;
+        if (gaps.Length == 0) return 0;
+        double a = gaps.Average();
+        bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
+        double[] values = TheoryModels.Prepare(run.Theory).Select(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; }).ToArray();
+        if (values.Length < 2) return 0.2;
+        double mean = values.Average();
+        return mean == 0 ? 0 : (values.Max() - values.Min()) / 2 / Math.Abs(mean);
+    }
 
     // The one-sigma effect of a constant by central differences of the whole reduction at fixed separations.
     private static SystematicSource Difference(string name, Core nominal, Core up, Core down, bool shared)
@@ -90,7 +122,11 @@ public static class RunReducer
     /// <summary>Everything computed for one set of constants.</summary>
     private sealed record Core(RunCalibration Calibration, PositionFit[] Positions, double[] Separation, double[] Value, double[] Slope, double[] PointTime,
         double[,] RandomCovariance, SystematicSource CalibrationSource, FreeSignalTrack Track, double[,] ResidualPotentialCovariance,
-        double[] AmplitudeCorrection, CurveShape Shape, IReadOnlyList<string> Warnings);
+        double[] AmplitudeCorrection, CurveShape Shape, IReadOnlyList<string> Warnings)
+    {
+        /// <summary>The reference steps' gaps at the final calibration (m).</summary>
+        public double[] ReferenceGaps { get; init; } = [];
+    }
 
     /// <summary>A step ready for fitting.</summary>
     /// <param name="Time">Mean time of the kept samples (s).</param>
@@ -140,12 +176,14 @@ public static class RunReducer
             references.Select(r => new FreeSignalPoint(r.MeanTime, r.Mean, r.Sigma)).ToArray()));
         CurveShape? shape = start?.Shape;
         State state = default!;
-        int passes = start is null ? OuterIterations : 1;
+        // A variation starts from the nominal result and needs one pass more: its constants change the reference
+        // correction (the Casimir force at the reference gap, the electrostatics there), so f0(t) is rebuilt once.
+        int passes = start is null ? OuterIterations : 2;
         for (int outer = 0; outer < passes; outer++)
         {
             state = GlobalPass(steps, groups, track, c, electrostatics, sign, scaleSigma, shape, frequency);
             shape = state.Shape;
-            if (givenFree is null && start is null)
+            if (givenFree is null && outer < passes - 1)
                 track = FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
                     CorrectedReference(r, state, c, electrostatics, sign, frequency), r.Sigma)).ToArray());
         }
@@ -156,7 +194,7 @@ public static class RunReducer
             else if (state.Calibration.DegreesOfFreedom > 0 && state.Calibration.PValue < 1e-3)
                 warnings.Add($"{run.Name}: the electrostatic calibration fits poorly (chi2 = {state.Calibration.ChiSquare:F1} for {state.Calibration.DegreesOfFreedom} degrees of freedom, p = {state.Calibration.PValue:G2})");
         }
-        return state.ToCore(track, warnings ?? []);
+        return state.ToCore(track, warnings ?? []) with { ReferenceGaps = references.Select(r => ReferenceGap(r, state, sign)).ToArray() };
     }
 
     /// <summary>The outcome of one pass.</summary>
@@ -193,20 +231,24 @@ public static class RunReducer
     private static double CorrectedReference(SegmentStatistics r, State s, RunConstants c, ElectrostaticTable e, int sign, bool frequency)
     {
         // The reference gap still feels the electrostatic force of (V − V0(a_ref))^2, with V0 extrapolated along its
-        // fitted gap trend; the Casimir force there is neglected (assumption stated in the report).
-        double a = s.GapOffset + sign * s.Scale * r.Piezo;
+        // fitted gap trend, and the Casimir force of the settings' theories (see ReferenceCasimir).
+        double a = ReferenceGap(r, s, sign);
         double v0 = ResidualPotentialAt(s, a);
         double dv = r.Bias - v0;
+        double casimir = c.ReferenceCasimir is { } f ? c.ReferenceCasimirScale * f(a) : 0;
+        if (!double.IsFinite(casimir)) casimir = 0;
         if (frequency)
         {
-            // f_ref = f0 sqrt(1 − <G>(a)(V − V0)^2 / k)  =>  f0 = f_ref / sqrt(1 − y_el)
-            double y = e.AveragedGradient(a, c.Amplitude) / s.Kappa * dv * dv;
+            // f_ref = f0 sqrt(1 − (<G>(a)(V − V0)^2 + F'_Casimir(a)) / k)  =>  f0 = f_ref / sqrt(1 − y)
+            double y = (e.AveragedGradient(a, c.Amplitude) * dv * dv + casimir) / s.Kappa;
             return double.IsFinite(y) ? r.Mean / Math.Sqrt(1 - y) : r.Mean;
         }
-        // S_ref = S_free + u_el with u_el = −E(a)(V − V0)^2 / (k m)
-        double u = -e.Force(a) * dv * dv / s.Kappa;
+        // S_ref = S_free + u with u = −(E(a)(V − V0)^2 + F_Casimir(a)) / (k m)
+        double u = -(e.Force(a) * dv * dv + casimir) / s.Kappa;
         return double.IsFinite(u) ? r.Mean - u : r.Mean;
     }
+
+    private static double ReferenceGap(SegmentStatistics r, State s, int sign) => s.GapOffset + sign * s.Scale * r.Piezo;
 
     /// <summary>
     /// The weighted straight line V0(a) = b0 + b1 (a − a_nearest) through the positions' V0 values, with a_nearest the

@@ -125,7 +125,7 @@ public static class ReportDocument
         b.Add(new Heading(2, "Assumptions"));
         b.Add(new Bullets(
         [
-            "Reference steps are free of the Casimir force; their residual electrostatic force is corrected with V0 extrapolated along its fitted gap trend.",
+            "Reference steps feel the Casimir force of the settings' theories (their mean; its uncertainty is half their spread, or 20% with a single theory, our choice) and a residual electrostatic force with V0 extrapolated along its fitted gap trend; both are corrected.",
             "The oscillation-amplitude correction (A^2/8) F''' and the small gap changes within a position use the smooth curve of the data themselves, not a theory.",
             "Runs are combined on a common grid by interpolation in ln a of the ratio to a smooth fit of the whole night; a run never contributes outside its own range. A run is flagged when its chi-square against the others has p < 0.001 (our threshold); flagged runs stay in the mean.",
             "The comparison assumes the PFA with the stated first-order beyond-PFA coefficient, second-order roughness (or geometrical averaging of measured height histograms), the stated materials and temperature, and Gaussian uncertainties. A disagreement is a statement about this model of the experiment, not by itself evidence of new physics or the exclusion of a theory: conclusions need independent review.",

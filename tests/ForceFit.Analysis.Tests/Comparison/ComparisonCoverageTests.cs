@@ -18,7 +18,6 @@ namespace ForceFit.Analysis.Tests.Comparison;
 public sealed class ComparisonCoverageTests : TemporaryFolderTest
 {
     private const int Nights = 200;
-    private static readonly System.Collections.Concurrent.ConcurrentBag<double[]> PointPulls = [];
 
     private static (CombinedNight Night, IReadOnlyList<TheoryResult> Results, double TruePValue) ReduceAndCompare(string folder, Scenario scenario, ulong seed, int draws)
     {
@@ -39,7 +38,6 @@ public sealed class ComparisonCoverageTests : TemporaryFolderTest
         double chi = 0;
         for (int i = 0; i < r.Length; i++)
             for (int j = 0; j < r.Length; j++) chi += r[i] * inv[i, j] * r[j];
-        PointPulls.Add(Enumerable.Range(0, r.Length).Select(i => r[i] / Math.Sqrt(cov[i, i])).ToArray());
         return (c, reduction.Comparison, Statistics.ChiSquareSurvival(chi, r.Length));
     }
 
@@ -65,7 +63,7 @@ public sealed class ComparisonCoverageTests : TemporaryFolderTest
     }
 
     [Test]
-    public void Bands_cover_the_measured_points_and_the_true_theory_has_uniform_p_values_over_fifty_nights()
+    public void Bands_cover_the_measured_points_and_the_true_theory_has_uniform_p_values_over_200_nights()
     {
         // Small nights (12 positions, 5 biases, 1.5 s steps at 200 Hz) so that many fit in CI time. The points of one
         // night share its systematic errors, so the coverage fraction is measured per night rather than per point; a
@@ -79,7 +77,7 @@ public sealed class ComparisonCoverageTests : TemporaryFolderTest
         Parallel.For(0, Nights, new ParallelOptions { MaxDegreeOfParallelism = 2 }, index =>
         {
             ulong seed = 7000 + (ulong)index;
-            var (night, results, truePValue) = ReduceAndCompare(Path.Combine(Folder, "n" + seed), scenario, seed, 400);
+            var (night, results, truePValue) = ReduceAndCompare(Path.Combine(Folder, "n" + seed), scenario, seed, 250);
             Directory.Delete(Path.Combine(Folder, "n" + seed), recursive: true);
             truePValues[index] = truePValue;
             TheoryResult truth = results.Single(r => r.Theory == "Drude");
@@ -98,11 +96,7 @@ public sealed class ComparisonCoverageTests : TemporaryFolderTest
         double coverage = (double)inside.Sum() / points.Sum();
         double ks = KolmogorovSmirnovUniform(pValues);
         TestContext.Out.WriteLine($"coverage of the 95% bands: {coverage:P2} of {points.Sum()} points (linearised band: {(double)insideLinear.Sum() / points.Sum():P2}); KS p-value of the true theory's p-values: {ks:G3}");
-
-        TestContext.Out.WriteLine("p-values: " + string.Join(" ", pValues.Order().Select(p => p.ToString("F3"))));
- var all = PointPulls.ToArray();
-        for (int j = 0; j < all[0].Length; j++) TestContext.Out.WriteLine($"point {j}: pull rms {Math.Sqrt(all.Average(x => x[j] * x[j])):F3} mean {all.Average(x => x[j]):F3}");
-        TestContext.Out.WriteLine("against the true curve: " + string.Join(" ", truePValues.Order().Select(p => p.ToString("F3"))));
+        TestContext.Out.WriteLine("true theory's p-values: " + string.Join(" ", pValues.Order().Select(p => p.ToString("F3"))));
         TestContext.Out.WriteLine($"reduced night against the true curve: p > 0.01 in {truePValues.Count(p => p > 0.01)} of {Nights}, KS p {KolmogorovSmirnovUniform(truePValues):G3}");
         using var scope = Assert.EnterMultipleScope();
         Assert.That(coverage, Is.InRange(0.93, 0.97), "95% band coverage");
