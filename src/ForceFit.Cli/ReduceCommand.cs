@@ -56,6 +56,7 @@ public static class ReduceCommand
         if (input is null) throw new UsageException("reduce needs a night folder or a run's .toml file");
         if (outFolder is null) throw new UsageException("reduce needs --out <report-folder>");
         NightSettings night = NightCheck.Run(input);
+        ReportFolder.CheckTarget(outFolder, night.Folder, force); // before the work, not after it
         var progress = quiet ? null : new ProgressDisplay(errors, errorsIsTerminal);
         NightReduction reduction = NightPipeline.Reduce(night, new ComparisonOptions(draws, seed), cancel, progress);
         progress?.Finish();

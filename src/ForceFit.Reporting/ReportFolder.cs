@@ -29,15 +29,25 @@ public sealed record InputFile(string Path, long Bytes, string Sha256);
 /// </summary>
 public static class ReportFolder
 {
-    /// <summary>Writes the report folder atomically; an existing folder is replaced only with <paramref name="force"/>.</summary>
-    public static void Write(NightReduction reduction, string outFolder, bool force, string commandLine, DateTimeOffset now, string toolVersion)
+    /// <summary>
+    /// Checks the report folder before any work: not a file, not inside the night folder, not an existing folder
+    /// without <paramref name="force"/>. Returns the full path.
+    /// </summary>
+    public static string CheckTarget(string outFolder, string nightFolder, bool force)
     {
         string target = Path.GetFullPath(outFolder).TrimEnd(Path.DirectorySeparatorChar);
         if (File.Exists(target)) throw new InputException(new Problem(target, null, "the output folder is a file"));
         if (Directory.Exists(target) && !force) throw new InputException(new Problem(target, null, "the output folder exists; add --force to replace it"));
-        string nightFolder = Path.GetFullPath(reduction.Night.Folder).TrimEnd(Path.DirectorySeparatorChar);
-        if ((target + Path.DirectorySeparatorChar).StartsWith(nightFolder + Path.DirectorySeparatorChar, StringComparison.Ordinal))
+        string night = Path.GetFullPath(nightFolder).TrimEnd(Path.DirectorySeparatorChar);
+        if ((target + Path.DirectorySeparatorChar).StartsWith(night + Path.DirectorySeparatorChar, StringComparison.Ordinal))
             throw new InputException(new Problem(target, null, "the output folder lies inside the night folder; choose a folder outside the raw data"));
+        return target;
+    }
+
+    /// <summary>Writes the report folder atomically; an existing folder is replaced only with <paramref name="force"/>.</summary>
+    public static void Write(NightReduction reduction, string outFolder, bool force, string commandLine, DateTimeOffset now, string toolVersion)
+    {
+        string target = CheckTarget(outFolder, reduction.Night.Folder, force);
         string parent = Path.GetDirectoryName(target)!;
         Directory.CreateDirectory(parent);
         string temporary = Path.Combine(parent, "." + Path.GetFileName(target) + ".partial-" + Guid.NewGuid().ToString("N")[..8]);

@@ -1,10 +1,5 @@
 using System.Globalization;
-using System.Security.Cryptography;
-using System.Text;
-using System.Text.Json;
-using System.Text.Json.Nodes;
 using ForceFit.Analysis.Comparison;
-using ForceFit.Analysis.Tables;
 using ForceFit.Core.Problems;
 using ForceFit.Fitting;
 using ForceFit.Ingest.RunFiles;
@@ -63,11 +58,19 @@ public static class NightPipeline
         }
         var results = new RunResult[segments.Length];
         int reduced = 0;
-        Parallel.For(0, segments.Length, new ParallelOptions { CancellationToken = cancel }, i =>
+        try
         {
-            results[i] = RunReducer.Reduce(segments[i]);
-            progress?.Report(new StageProgress("calibration", Interlocked.Increment(ref reduced), segments.Length, segments[i].Run.Name));
-        });
+            Parallel.For(0, segments.Length, new ParallelOptions { CancellationToken = cancel }, i =>
+            {
+                results[i] = RunReducer.Reduce(segments[i]);
+                progress?.Report(new StageProgress("calibration", Interlocked.Increment(ref reduced), segments.Length, segments[i].Run.Name));
+            });
+        }
+        catch (AggregateException e) when (e.InnerExceptions.All(x => x is InputException))
+        {
+            // Every run's problems at once, in run order, as one input error.
+            throw new InputException(e.InnerExceptions.Cast<InputException>().SelectMany(x => x.Problems).ToArray());
+        }
         bool frequency = night.Runs[0].Instrument.Mode == InstrumentMode.FrequencyShift;
         CombinedNight combined = NightCombiner.Combine(results, frequency);
         var draws = new Relay<int>(d => progress?.Report(new StageProgress("Monte Carlo", d, options.Draws, "draws")));

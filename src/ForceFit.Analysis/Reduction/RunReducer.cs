@@ -164,10 +164,16 @@ public static class RunReducer
         }
         if (groups.Length < 3)
             throw new InputException(new Problem(run.DataFile, null, $"only {groups.Length} piezo position(s) with at least three biases: the calibration needs three or more"));
+        // The global fit's unknowns: V0 and the bias-free value of every position, z0, k (or k m and m) and two drifts.
+        int unknowns = 2 * groups.Length + 4 + (frequency ? 0 : 1);
+        int used = groups.Sum(g => g.Length);
+        if (used < unknowns)
+            throw new InputException(new Problem(run.DataFile, null,
+                $"{used} steps at {groups.Length} positions cannot determine the calibration's {unknowns} unknowns (V0 and the bias-free value of every position, z0, k, the gap and V0 drifts): record more biases per position or more positions"));
         Measurement? givenFree = frequency ? run.Instrument.FreeFrequency : run.Instrument.DeflectionFree;
         if (givenFree is null && references.Length == 0)
             throw new InputException(new Problem(run.RunFile, null,
-                $"[instrument] reference_beyond: no reference steps beyond {(run.Instrument.ReferenceBeyond is { } rb ? rb.Value * 1e9 + " nm" : "'reference_beyond'")}: the free {(frequency ? "frequency" : "deflection signal")} cannot be found; give reference steps or state '{(frequency ? "free_frequency" : "deflection_free")}'"));
+                $"[instrument] reference_beyond: no reference steps beyond {(run.Instrument.ReferenceBeyond is { } rb ? (rb.Value * 1e9).ToString("G6", System.Globalization.CultureInfo.InvariantCulture) + " nm" : "'reference_beyond'")}: the free {(frequency ? "frequency" : "deflection signal")} cannot be found; give reference steps or state '{(frequency ? "free_frequency" : "deflection_free")}'"));
         var electrostatics = ElectrostaticTable.For(c.Radius);
         int sign = run.Piezo.Sign;
         const double scaleSigma = 0; // the piezo scale is held at its stated value here (see Reduce)
@@ -176,9 +182,10 @@ public static class RunReducer
             references.Select(r => new FreeSignalPoint(r.MeanTime, r.Mean, r.Sigma)).ToArray()));
         CurveShape? shape = start?.Shape;
         State state = default!;
-        // A variation starts from the nominal result and needs one pass more: its constants change the reference
-        // correction (the Casimir force at the reference gap, the electrostatics there), so f0(t) is rebuilt once.
-        int passes = start is null ? OuterIterations : 2;
+        // A variation starts from the nominal result with one pass. The variation of the Casimir force at the reference
+        // gap changes f0(t) itself to first order, so it rebuilds f0(t) once and takes a second pass; the other
+        // constants move the reference correction only at second order and keep the nominal f0(t).
+        int passes = start is null ? OuterIterations : c.ReferenceCasimirScale != 1 ? 2 : 1;
         for (int outer = 0; outer < passes; outer++)
         {
             state = GlobalPass(steps, groups, track, c, electrostatics, sign, scaleSigma, shape, frequency);

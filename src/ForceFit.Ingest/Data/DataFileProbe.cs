@@ -45,6 +45,10 @@ public static class DataFileProbe
             return e.Problems;
         }
         var problems = new List<Problem>();
+        if (header.Kind != DataFileKind.Hdf5 && header.Columns.Any(c => c.Any(ch => char.IsControl(ch) && ch != '\t' || ch == '\uFFFD')))
+            return [new Problem(run.DataFile, header.HeaderLine, "the header line is not text (control or undecodable bytes): is this a CSV/TSV data file?")];
+        foreach (var twice in header.Columns.GroupBy(c => c, StringComparer.Ordinal).Where(g => g.Count() > 1))
+            problems.Add(new Problem(run.DataFile, header.HeaderLine, $"column '{twice.Key}' appears {twice.Count()} times in the header; column names must be unique"));
         foreach ((string channel, ColumnSettings column) in run.Columns.Mapped())
         {
             string wanted = header.Kind == DataFileKind.Hdf5 ? column.Name.TrimStart('/') : column.Name;

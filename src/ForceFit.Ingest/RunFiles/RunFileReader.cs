@@ -194,7 +194,8 @@ public static class RunFileReader
         {
             TomlNode node = top.Node("data")!;
             dataPath = Resolve(node.File, data);
-            if (!File.Exists(dataPath)) top.Error(node, $"data in the top level: the data file '{dataPath}' does not exist");
+            if (Directory.Exists(dataPath)) top.Error(node, $"data in the top level: '{dataPath}' is a folder, not a data file");
+            else if (!File.Exists(dataPath)) top.Error(node, $"data in the top level: the data file '{dataPath}' does not exist");
         }
         Protocol? protocol = top.Choice("protocol", required: true, Protocols);
         Measurement? settle = top.Quantity("settle", Dimension.Time, required: protocol == Protocol.VoltageSteps, why: "needed by protocol 'voltage-steps'");

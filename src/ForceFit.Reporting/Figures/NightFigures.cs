@@ -127,42 +127,40 @@ public static class NightFigures
             "Steps at the nearest, a middle and the farthest position of the first run, converted to physical units with the run's calibration, and the fitted parabolas (vertex at V0).");
     }
 
-    private static Figure ResidualPotentialAgainstSeparation(NightReduction r)
+    // V0 of every position against x (separation in nm or time in h), one colour per run.
+    private static Plot ResidualPotentialPlot(NightReduction r, string xLabel, string title, Func<PositionFit, double> x)
     {
-        Plot plot = FigureKit.New("separation a (nm)", "residual potential V0 (mV)", "V0 against separation");
+        Plot plot = FigureKit.New(xLabel, "residual potential V0 (mV)", title);
         for (int i = 0; i < r.Runs.Count; i++)
         {
-            var p = r.Runs[i].Positions.OrderBy(x => x.Separation).ToArray();
-            double[] a = p.Select(x => x.Separation * 1e9).ToArray(), v = p.Select(x => x.ResidualPotential * 1e3).ToArray();
-            var points = plot.Add.ScatterPoints(a, v, Palette.Of(i));
+            var p = r.Runs[i].Positions.OrderBy(x).ToArray();
+            double[] xs = p.Select(x).ToArray(), v = p.Select(q => q.ResidualPotential * 1e3).ToArray();
+            var points = plot.Add.ScatterPoints(xs, v, Palette.Of(i));
             points.LegendText = r.Runs[i].Run;
-            var bars = plot.Add.ErrorBar(a, v, p.Select(x => x.ResidualPotentialSigma * 1e3).ToArray());
+            var bars = plot.Add.ErrorBar(xs, v, p.Select(q => q.ResidualPotentialSigma * 1e3).ToArray());
             bars.Color = Palette.Of(i);
-            var (v0, _, slope, _, nearest) = NightPipeline.ResidualPotential(r.Runs[i]);
-            var line = plot.Add.ScatterLine(new[] { a.Min(), a.Max() }, new[] { (v0 + slope * (a.Min() * 1e-9 - nearest)) * 1e3, (v0 + slope * (a.Max() * 1e-9 - nearest)) * 1e3 }, Palette.Of(i));
-            line.LineWidth = 1;
         }
         plot.ShowLegend(Alignment.UpperRight);
+        return plot;
+    }
+
+    private static Figure ResidualPotentialAgainstSeparation(NightReduction r)
+    {
+        Plot plot = ResidualPotentialPlot(r, "separation a (nm)", "V0 against separation", q => q.Separation * 1e9);
+        for (int i = 0; i < r.Runs.Count; i++)
+        {
+            double lo = r.Runs[i].Positions.Min(q => q.Separation), hi = r.Runs[i].Positions.Max(q => q.Separation);
+            var (v0, _, slope, _, nearest) = NightPipeline.ResidualPotential(r.Runs[i]);
+            var line = plot.Add.ScatterLine(new[] { lo * 1e9, hi * 1e9 }, new[] { (v0 + slope * (lo - nearest)) * 1e3, (v0 + slope * (hi - nearest)) * 1e3 }, Palette.Of(i));
+            line.LineWidth = 1;
+        }
         return FigureKit.Render(plot, "v0-separation", "V0 against separation",
             "The vertex of each bias parabola with its statistical uncertainty, and each run's weighted straight line (its slope is in the calibration table).");
     }
 
-    private static Figure ResidualPotentialAgainstTime(NightReduction r)
-    {
-        Plot plot = FigureKit.New("time (h)", "residual potential V0 (mV)", "V0 against time");
-        for (int i = 0; i < r.Runs.Count; i++)
-        {
-            var p = r.Runs[i].Positions.OrderBy(x => x.Time).ToArray();
-            double[] t = p.Select(x => x.Time / 3600).ToArray(), v = p.Select(x => x.ResidualPotential * 1e3).ToArray();
-            var points = plot.Add.ScatterPoints(t, v, Palette.Of(i));
-            points.LegendText = r.Runs[i].Run;
-            var bars = plot.Add.ErrorBar(t, v, p.Select(x => x.ResidualPotentialSigma * 1e3).ToArray());
-            bars.Color = Palette.Of(i);
-        }
-        plot.ShowLegend(Alignment.UpperRight);
-        return FigureKit.Render(plot, "v0-time", "V0 against time",
+    private static Figure ResidualPotentialAgainstTime(NightReduction r) =>
+        FigureKit.Render(ResidualPotentialPlot(r, "time (h)", "V0 against time", q => q.Time / 3600), "v0-time", "V0 against time",
             "V0 of every position against the mean time of its steps (each run's own clock); the fitted drift with time is in summary.json.");
-    }
 
     // The calibration's model of the curvature at the fitted separations: the exact sphere–plate electrostatics
     // (physics.md), amplitude-averaged in frequency mode; F' per V^2 or F per V^2.
