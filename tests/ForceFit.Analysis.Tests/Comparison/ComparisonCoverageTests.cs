@@ -26,40 +26,7 @@ public sealed class ComparisonCoverageTests : TemporaryFolderTest
         NightReduction reduction = NightPipeline.Reduce(night, new ComparisonOptions(draws, (int)seed));
         // The reduced night against the true curve (the truth theory with the night's true inputs) with the night's own
         // covariance (random and experimental systematic), issue acceptance of the reduction.
-        CombinedNight c = reduction.Combined;
-        double[] curve = TheoryComparison.Predict(TrueInputs(night.Runs[0].Theory, truth.Inputs), c.Separation, c.Frequency)
-            [night.Runs[0].Theory.Theories.ToList().FindIndex(t => t.Name == scenario.TruthTheory)];
-        double[] r = c.Value.Zip(curve, (v, f) => v - f).ToArray();
-        double[,] cov = c.RandomCovariance;
-        double[,] sys = c.SystematicCovariance;
-        for (int i = 0; i < r.Length; i++)
-            for (int j = 0; j < r.Length; j++) cov[i, j] += sys[i, j];
-        double[,] inv = Matrices.InverseSymmetric(cov);
-        double chi = 0;
-        for (int i = 0; i < r.Length; i++)
-            for (int j = 0; j < r.Length; j++) chi += r[i] * inv[i, j] * r[j];
-        return (c, reduction.Comparison, Statistics.ChiSquareSurvival(chi, r.Length));
-    }
-
-    // The settings' theory inputs with the night's true values (the stated uncertainties kept, not used here).
-    private static TheoryInputs TrueInputs(TheoryInputs stated, ForceFit.Simulation.TrueInputs t)
-    {
-        double ev = ForceFit.Core.Units.PhotonEnergy.ElectronVoltsToRadiansPerSecond(1);
-        var materials = stated.Materials.ToDictionary(kv => kv.Key, kv => kv.Value with
-        {
-            PlasmaFrequency = kv.Value.PlasmaFrequency is { } wp ? wp with { Value = t.PlasmaFrequencyEv * ev } : null,
-            Damping = kv.Value.Damping is { } g ? g with { Value = t.DampingEv * ev } : null,
-        });
-        return stated with
-        {
-            Sphere = new SphereSettings(stated.Sphere.Radius with { Value = t.Radius }),
-            Surfaces = stated.Surfaces with
-            {
-                Temperature = stated.Surfaces.Temperature with { Value = t.Temperature },
-                PfaCorrection = stated.Surfaces.PfaCorrection with { Value = t.Theta },
-            },
-            Materials = materials,
-        };
+        return (reduction.Combined, reduction.Comparison, TruthCurves.PValueAgainstTruth(reduction.Combined, night.Runs[0].Theory, truth));
     }
 
     [Test]

@@ -1,0 +1,52 @@
+using ForceFit.Analysis.Comparison;
+using ForceFit.Analysis.Reduction;
+using ForceFit.Fitting;
+using ForceFit.Ingest.RunFiles;
+using ForceFit.Simulation;
+
+namespace ForceFit.Analysis.Tests;
+
+/// <summary>The simulator's true curve for a reduced result, and its chi-square against the result.</summary>
+internal static class TruthCurves
+{
+    /// <summary>The settings' theory inputs with the night's true values put in (the stated uncertainties kept, unused).</summary>
+    public static TheoryInputs WithTruth(TheoryInputs stated, TrueInputs t)
+    {
+        double ev = ForceFit.Core.Units.PhotonEnergy.ElectronVoltsToRadiansPerSecond(1);
+        var materials = stated.Materials.ToDictionary(kv => kv.Key, kv => kv.Value with
+        {
+            PlasmaFrequency = kv.Value.PlasmaFrequency is { } wp ? wp with { Value = t.PlasmaFrequencyEv * ev } : null,
+            Damping = kv.Value.Damping is { } g ? g with { Value = t.DampingEv * ev } : null,
+        });
+        return stated with
+        {
+            Sphere = new SphereSettings(stated.Sphere.Radius with { Value = t.Radius }),
+            Surfaces = stated.Surfaces with
+            {
+                Temperature = stated.Surfaces.Temperature with { Value = t.Temperature },
+                PfaCorrection = stated.Surfaces.PfaCorrection with { Value = t.Theta },
+            },
+            Materials = materials,
+        };
+    }
+
+    /// <summary>
+    /// The p-value of (result − true curve) with the result's own covariance (random and experimental systematic):
+    /// the true curve is the truth theory with the night's true inputs at the reported separations.
+    /// </summary>
+    public static double PValueAgainstTruth(CombinedNight c, TheoryInputs stated, NightTruth truth)
+    {
+        int theory = stated.Theories.ToList().FindIndex(t => t.Name == truth.Scenario.TruthTheory);
+        double[] curve = TheoryComparison.Predict(WithTruth(stated, truth.Inputs), c.Separation, c.Frequency)[theory];
+        double[] r = c.Value.Zip(curve, (v, f) => v - f).ToArray();
+        double[,] cov = c.RandomCovariance;
+        double[,] sys = c.SystematicCovariance;
+        for (int i = 0; i < r.Length; i++)
+            for (int j = 0; j < r.Length; j++) cov[i, j] += sys[i, j];
+        double[,] inv = Matrices.InverseSymmetric(cov);
+        double chi = 0;
+        for (int i = 0; i < r.Length; i++)
+            for (int j = 0; j < r.Length; j++) chi += r[i] * inv[i, j] * r[j];
+        return Statistics.ChiSquareSurvival(chi, r.Length);
+    }
+}
