@@ -19,7 +19,11 @@ public enum DataFileKind
 /// <param name="Columns">Header names, or 1-D dataset paths with their lengths.</param>
 /// <param name="Delimiter">The detected delimiter for delimited text.</param>
 /// <param name="HeaderLine">The 1-based line of the header (delimited text).</param>
-public sealed record DataFileHeader(DataFileKind Kind, IReadOnlyList<string> Columns, char Delimiter, int HeaderLine);
+public sealed record DataFileHeader(DataFileKind Kind, IReadOnlyList<string> Columns, char Delimiter, int HeaderLine)
+{
+    /// <summary>HDF5: datasets that are not 1-D, with their number of dimensions (not channels, named in errors).</summary>
+    public IReadOnlyDictionary<string, int> OtherShapes { get; init; } = new Dictionary<string, int>();
+}
 
 /// <summary>Opens a data file far enough to list its columns and confirm a run's mapping.</summary>
 public static class DataFileProbe
@@ -53,6 +57,11 @@ public static class DataFileProbe
         {
             string wanted = header.Kind == DataFileKind.Hdf5 ? column.Name.TrimStart('/') : column.Name;
             if (header.Columns.Contains(wanted, StringComparer.Ordinal)) continue;
+            if (header.OtherShapes.TryGetValue(wanted, out int rank))
+            {
+                problems.Add(new Problem(run.DataFile, null, $"dataset '{column.Name}' mapped to {channel} in {run.RunFile} has {rank} dimensions; a channel is a 1-D dataset"));
+                continue;
+            }
             string near = Suggest.Nearest(column.Name, header.Columns) is { } n ? $" (did you mean '{n}'?)" : "";
             string what = header.Kind == DataFileKind.Hdf5 ? "1-D dataset" : "column";
             problems.Add(new Problem(run.DataFile, header.Kind == DataFileKind.Hdf5 ? null : header.HeaderLine,
@@ -132,8 +141,9 @@ public static class DataFileProbe
         {
             using var file = H5File.OpenRead(path);
             var names = new List<string>();
-            Collect(file, "", names);
-            return new DataFileHeader(DataFileKind.Hdf5, names, '\0', 0);
+            var others = new Dictionary<string, int>(StringComparer.Ordinal);
+            Collect(file, "", names, others);
+            return new DataFileHeader(DataFileKind.Hdf5, names, '\0', 0) { OtherShapes = others };
         }
         catch (Exception e) when (e is IOException or UnauthorizedAccessException)
         {
@@ -145,15 +155,16 @@ public static class DataFileProbe
         }
     }
 
-    private static void Collect(IH5Group group, string prefix, List<string> names)
+    private static void Collect(IH5Group group, string prefix, List<string> names, Dictionary<string, int> others)
     {
         foreach (IH5Object child in group.Children())
         {
             string name = prefix + "/" + child.Name;
-            if (child is IH5Group sub) Collect(sub, name, names);
-            else if (child is IH5Dataset dataset && dataset.Space.Dimensions.Length == 1)
+            if (child is IH5Group sub) Collect(sub, name, names, others);
+            else if (child is IH5Dataset dataset)
             {
-                names.Add(name.TrimStart('/'));
+                if (dataset.Space.Dimensions.Length == 1) names.Add(name.TrimStart('/'));
+                else others[name.TrimStart('/')] = dataset.Space.Dimensions.Length;
             }
         }
     }
