@@ -176,7 +176,6 @@ public static class RunReducer
                 $"[instrument] reference_beyond: no reference steps beyond {(run.Instrument.ReferenceBeyond is { } rb ? (rb.Value * 1e9).ToString("G6", System.Globalization.CultureInfo.InvariantCulture) + " nm" : "'reference_beyond'")}: the free {(frequency ? "frequency" : "deflection signal")} cannot be found; give reference steps or state '{(frequency ? "free_frequency" : "deflection_free")}'"));
         var electrostatics = ElectrostaticTable.For(c.Radius);
         int sign = run.Piezo.Sign;
-        const double scaleSigma = 0; // the piezo scale is held at its stated value here (see Reduce)
         // A variation of the constants starts from the nominal reduction's free signal and curve shape: one pass.
         FreeSignalTrack track = start?.Track ?? (givenFree is { } g ? FreeSignalTrack.Given(g.Value, g.Sigma) : FreeSignalTrack.FromReferences(
             references.Select(r => new FreeSignalPoint(r.MeanTime, r.Mean, r.Sigma)).ToArray()));
@@ -188,7 +187,7 @@ public static class RunReducer
         int passes = start is null ? OuterIterations : c.ReferenceCasimirScale != 1 ? 2 : 1;
         for (int outer = 0; outer < passes; outer++)
         {
-            state = GlobalPass(steps, groups, track, c, electrostatics, sign, scaleSigma, shape, frequency);
+            state = GlobalPass(steps, groups, track, c, electrostatics, sign, shape, frequency);
             shape = state.Shape;
             if (givenFree is null && outer < passes - 1)
                 track = FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
@@ -201,13 +200,13 @@ public static class RunReducer
             else if (state.Calibration.DegreesOfFreedom > 0 && state.Calibration.PValue < 1e-3)
                 warnings.Add($"{run.Name}: the electrostatic calibration fits poorly (chi2 = {state.Calibration.ChiSquare:F1} for {state.Calibration.DegreesOfFreedom} degrees of freedom, p = {state.Calibration.PValue:G2})");
         }
-        return state.ToCore(track, warnings ?? []) with { ReferenceGaps = references.Select(r => ReferenceGap(r, state, sign)).ToArray() };
+        return state.ToCore(track, warnings ?? []) with { ReferenceGaps = references.Select(r => ReferenceGap(r, state, c, sign)).ToArray() };
     }
 
     /// <summary>The outcome of one pass.</summary>
     private sealed record State(RunCalibration Calibration, PositionFit[] Positions, double[] Separation, double[] Value, double[] Slope,
         double[] PointTime, double[,] RandomCovariance, SystematicSource CalibrationSource, double[,] ResidualPotentialCovariance, double[] AmplitudeCorrection,
-        CurveShape Shape, double GapOffset, double Kappa, double Sensitivity, double Scale)
+        CurveShape Shape, double GapOffset, double Kappa, double Sensitivity)
     {
         public Core ToCore(FreeSignalTrack track, IReadOnlyList<string> warnings) => new(Calibration, Positions, Separation, Value, Slope, PointTime,
             RandomCovariance, CalibrationSource, track, ResidualPotentialCovariance, AmplitudeCorrection, Shape, warnings);
@@ -239,7 +238,7 @@ public static class RunReducer
     {
         // The reference gap still feels the electrostatic force of (V − V0(a_ref))^2, with V0 extrapolated along its
         // fitted gap trend, and the Casimir force of the settings' theories (see ReferenceCasimir).
-        double a = ReferenceGap(r, s, sign);
+        double a = ReferenceGap(r, s, c, sign);
         double v0 = ResidualPotentialAt(s, a);
         double dv = r.Bias - v0;
         double casimir = c.ReferenceCasimir is { } f ? c.ReferenceCasimirScale * f(a) : 0;
@@ -255,7 +254,7 @@ public static class RunReducer
         return double.IsFinite(u) ? r.Mean - u : r.Mean;
     }
 
-    private static double ReferenceGap(SegmentStatistics r, State s, int sign) => s.GapOffset + sign * s.Scale * r.Piezo;
+    private static double ReferenceGap(SegmentStatistics r, State s, RunConstants c, int sign) => s.GapOffset + sign * c.Scale * r.Piezo;
 
     /// <summary>
     /// The weighted straight line V0(a) = b0 + b1 (a − a_nearest) through the positions' V0 values, with a_nearest the
@@ -280,8 +279,8 @@ public static class RunReducer
     // ---------------------------------------------------------------- the calibration fit (both modes)
 
     // Rows after the points in the joint output vector: z0, instrument constant (k, or kappa = k m in deflection
-    // mode), m, s, gap drift v, V0 drift rate.
-    private const int CalibrationRows = 6;
+    // mode), m, gap drift v, V0 drift rate.
+    private const int CalibrationRows = 5;
 
     /// <summary>
     /// One weighted least-squares fit of every step of the run (physics.md, electrostatic calibration):
@@ -290,12 +289,12 @@ public static class RunReducer
     /// with the gap a_i = z0 + d s p_i + v (t_i − t_mid) (− m u_i in deflection mode: the sphere moves by x = m u),
     /// V0_j(t) = V0_j + w (t − t_j), G and E the exact sphere–plate gradient and force per V^2 (&lt;G&gt; averaged over
     /// the oscillation), C_j the bias-free value at position j and rho(a) = F_smooth(a)/F_smooth(a_j) its variation
-    /// over the small gap changes within the position, taken from the smooth curve of the data. The piezo scale s,
-    /// when its stated uncertainty is non-zero, is fitted with the statement "s ± sigma" as one more observation.
+    /// over the small gap changes within the position, taken from the smooth curve of the data. The piezo scale s is
+    /// held at its stated value (its uncertainty is a systematic shared by the runs, see Reduce).
     /// A slow gap drift v and V0 drift w are fitted because at this precision both are visible within one position.
     /// </summary>
     private static State GlobalPass(StepPoint[] steps, int[][] groups, FreeSignalTrack track, RunConstants c, ElectrostaticTable e, int sign,
-        double scaleSigma, CurveShape? shape, bool frequency)
+        CurveShape? shape, bool frequency)
     {
         int n = steps.Length, np = groups.Length;
         var obs = new double[n];
@@ -328,18 +327,17 @@ public static class RunReducer
 
         // Free calibration parameters, in this order: z0; the instrument constant unless fixed (frequency: k unless
         // given; deflection: kappa unless k and m are both given); m in deflection mode when neither k nor m is given;
-        // s when its uncertainty is stated; v; w. Fixed: k given => m = kappa / k; m given => m fixed.
-        bool kGiven = c.SpringConstant is not null, mGiven = c.Sensitivity is not null, fitS = scaleSigma > 0;
+        // v; w. Fixed: k given => m = kappa / k; m given => m fixed.
+        bool kGiven = c.SpringConstant is not null, mGiven = c.Sensitivity is not null;
         bool fitConstant = frequency ? !kGiven : !(kGiven && mGiven);
         bool fitM = !frequency && !kGiven && !mGiven;
         int iConstant = fitConstant ? 1 : -1, iM = fitM ? 1 + (fitConstant ? 1 : 0) : -1;
-        int iS = fitS ? 1 + (fitConstant ? 1 : 0) + (fitM ? 1 : 0) : -1;
-        int iV = 1 + (fitConstant ? 1 : 0) + (fitM ? 1 : 0) + (fitS ? 1 : 0), iW = iV + 1, shared = iW + 1;
-        (double Z0, double K, double M, double S, double V, double W) Calibration(ReadOnlySpan<double> p)
+        int iV = 1 + (fitConstant ? 1 : 0) + (fitM ? 1 : 0), iW = iV + 1, shared = iW + 1;
+        (double Z0, double K, double M, double V, double W) Calibration(ReadOnlySpan<double> p)
         {
             double constant = fitConstant ? p[iConstant] : frequency ? c.SpringConstant!.Value : c.SpringConstant!.Value * c.Sensitivity!.Value;
             double m = frequency ? 0 : fitM ? p[iM] : mGiven ? c.Sensitivity!.Value : constant / c.SpringConstant!.Value;
-            return (p[0], constant, m, fitS ? p[iS] : c.Scale, p[iV], p[iW]);
+            return (p[0], constant, m, p[iV], p[iW]);
         }
         double Electric(double a) => frequency ? e.AveragedGradient(a, c.Amplitude) : e.Force(a);
 
@@ -349,7 +347,6 @@ public static class RunReducer
         var start = new double[shared + 2 * np];
         start[0] = z0s;
         if (fitConstant) start[iConstant] = qStart;
-        if (fitS) start[iS] = c.Scale;
         start[iW] = rateStart;
         double constantStart = Calibration(start).K;
         double toValue = frequency ? constantStart : -constantStart; // vertex in signal units -> F' or F
@@ -361,11 +358,10 @@ public static class RunReducer
         CurveShape curve = shape ?? CurveShape.Fit(piezo.Select(p => z0s + sign * c.Scale * p).ToArray(),
             parabolas.Select(p => toValue * p.Vertex).ToArray(), parabolas.Select(p => Math.Abs(toValue) * p.VertexSigma).ToArray());
 
-        double Gap(in (double Z0, double K, double M, double S, double V, double W) q, double reading, double t) => q.Z0 + sign * q.S * reading + q.V * (t - tMid);
+        double Gap(in (double Z0, double K, double M, double V, double W) q, double reading, double t) => q.Z0 + sign * c.Scale * reading + q.V * (t - tMid);
         double ModelAt(int i, double[] p)
         {
             var q = Calibration(p);
-            if (i == n) return q.S; // the stated piezo scale as an observation
             int j = position[i];
             double aj = Gap(q, steps[i].Piezo, time[j]);
             double a = Gap(q, steps[i].Piezo, steps[i].Time) - q.M * obs[i];
@@ -375,12 +371,11 @@ public static class RunReducer
             return frequency ? force / q.K : -force / q.K;
         }
         // Generalised least squares with the full covariance of the observations: noise, the free signal's shared
-        // errors and random walk, the stated piezo scale, and the recorded channels' readout errors carried through
+        // errors and random walk, and the recorded channels' readout errors carried through
         // the model (effective variance: (df/dV)^2 sigma_V^2 per step, (df/dp)(df/dp)^T sigma_p^2 per position),
         // evaluated at the previous solution and refitted once.
-        var y = obs.ToList();
-        if (fitS) y.Add(c.Scale);
-        int m = y.Count;
+        double[] y = obs;
+        int m = y.Length;
         double[] Vector(double[] p)
         {
             var f = new double[m];
@@ -391,7 +386,6 @@ public static class RunReducer
         {
             var total = new double[m, m];
             for (int i = 0; i < n; i++) for (int q = 0; q < n; q++) total[i, q] = cov[i, q];
-            if (fitS) total[n, n] = scaleSigma * scaleSigma;
             var dBias = new double[n];
             var dPiezo = new double[n];
             for (int i = 0; i < n; i++)
@@ -473,17 +467,15 @@ public static class RunReducer
             l[np, q] = (cu.Z0 - cd.Z0) / (2 * h);
             l[np + 1, q] = (cu.K - cd.K) / (2 * h);
             l[np + 2, q] = (cu.M - cd.M) / (2 * h);
-            l[np + 3, q] = (cu.S - cd.S) / (2 * h);
-            l[np + 4, q] = (cu.V - cd.V) / (2 * h);
-            l[np + 5, q] = (cu.W - cd.W) / (2 * h);
+            l[np + 3, q] = (cu.V - cd.V) / (2 * h);
+            l[np + 4, q] = (cu.W - cd.W) / (2 * h);
         }
         double[,] joint = Matrices.Propagate(l, thetaCov);
         var sharedIdx = new List<int> { np };
         if (fitConstant) sharedIdx.Add(np + 1);
         if (fitM) sharedIdx.Add(np + 2);
-        if (fitS) sharedIdx.Add(np + 3);
+        sharedIdx.Add(np + 3);
         sharedIdx.Add(np + 4);
-        sharedIdx.Add(np + 5);
         double k = frequency ? cal.K : cal.K / cal.M;
         (double K, double M) ToPhysical(double dK, double dM) => frequency ? (dK, 0) : (dK / cal.M - cal.K / (cal.M * cal.M) * dM, dM);
         (double[,] random, SystematicSource calSource) = Split(joint, np, sharedIdx, ToPhysical);
@@ -504,19 +496,17 @@ public static class RunReducer
         var fitted = new List<string> { "z0" };
         if (frequency ? !kGiven : fitConstant) fitted.Add(frequency ? "k" : "k m");
         if (fitM) fitted.Add("m");
-        if (fitS) fitted.Add("s");
         fitted.Add("gap drift");
         fitted.Add("V0 drift");
         Estimate Stat(double v, double variance) => new(v, Math.Sqrt(Math.Max(variance, 0)), Math.Sqrt(Math.Max(variance, 0)));
         var calibration = new RunCalibration(Stat(cal.Z0, joint[np, np]), Stat(k, varK), frequency ? null : Stat(cal.M, joint[np + 2, np + 2]),
             fit.ChiSquare, fit.DegreesOfFreedom, fit.Stop, fitted)
         {
-            PiezoScale = Stat(cal.S, joint[np + 3, np + 3]),
-            GapDrift = Stat(cal.V, joint[np + 4, np + 4]),
-            ResidualPotentialDrift = Stat(cal.W, joint[np + 5, np + 5]),
+            GapDrift = Stat(cal.V, joint[np + 3, np + 3]),
+            ResidualPotentialDrift = Stat(cal.W, joint[np + 4, np + 4]),
             ReferenceTime = tMid,
         };
-        return new State(calibration, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M, cal.S);
+        return new State(calibration, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M);
     }
 
     // Start of the calibration from the near-contact laws (physics.md): the curvature is c = pi eps0 R / (q a^power)
