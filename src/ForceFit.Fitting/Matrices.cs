@@ -4,7 +4,7 @@ namespace ForceFit.Fitting;
 
 /// <summary>
 /// The few dense matrix operations error propagation needs, on plain double[,] so that MathNet types stay inside
-/// this project: products, J C J^T, symmetric inverse, Cholesky factor and the Schur complement.
+/// this project: products, sums, quadratic forms, J C J^T, symmetric inverse, Cholesky factor and the Schur complement.
 /// </summary>
 public static class Matrices
 {
@@ -21,6 +21,46 @@ public static class Matrices
                 if (aik == 0) continue;
                 for (int j = 0; j < p; j++) c[i, j] += aik * b[k, j];
             }
+        return c;
+    }
+
+    /// <summary>A v.</summary>
+    public static double[] Multiply(double[,] a, IReadOnlyList<double> v)
+    {
+        int n = a.GetLength(0), m = a.GetLength(1);
+        if (v.Count != m) throw new ArgumentException("the vector's length differs from the matrix's columns");
+        var r = new double[n];
+        for (int i = 0; i < n; i++)
+            for (int k = 0; k < m; k++) r[i] += a[i, k] * v[k];
+        return r;
+    }
+
+    /// <summary>A + B.</summary>
+    public static double[,] Add(double[,] a, double[,] b)
+    {
+        if (a.GetLength(0) != b.GetLength(0) || a.GetLength(1) != b.GetLength(1)) throw new ArgumentException("shapes differ");
+        var c = (double[,])a.Clone();
+        for (int i = 0; i < c.GetLength(0); i++)
+            for (int j = 0; j < c.GetLength(1); j++) c[i, j] += b[i, j];
+        return c;
+    }
+
+    /// <summary>x^T M y (with M = C^−1 and x = y = r, the chi-square of residuals r).</summary>
+    public static double Bilinear(IReadOnlyList<double> x, double[,] m, IReadOnlyList<double> y)
+    {
+        double s = 0;
+        for (int i = 0; i < x.Count; i++)
+            for (int j = 0; j < y.Count; j++) s += x[i] * m[i, j] * y[j];
+        return s;
+    }
+
+    /// <summary>Sum over the vectors of v v^T: the covariance of independent unit-variance directions v (each of length n).</summary>
+    public static double[,] OuterSum(IEnumerable<double[]> vectors, int n)
+    {
+        var c = new double[n, n];
+        foreach (double[] v in vectors)
+            for (int i = 0; i < n; i++)
+                for (int j = 0; j < n; j++) c[i, j] += v[i] * v[j];
         return c;
     }
 

@@ -39,14 +39,7 @@ internal static class TruthCurves
         int theory = stated.Theories.ToList().FindIndex(t => t.Name == truth.Scenario.TruthTheory);
         double[] curve = TheoryComparison.Predict(WithTruth(stated, truth.Inputs), c.Separation, c.Frequency)[theory];
         double[] r = c.Value.Zip(curve, (v, f) => v - f).ToArray();
-        double[,] cov = c.RandomCovariance;
-        double[,] sys = c.SystematicCovariance;
-        for (int i = 0; i < r.Length; i++)
-            for (int j = 0; j < r.Length; j++) cov[i, j] += sys[i, j];
-        double[,] inv = Matrices.InverseSymmetric(cov);
-        double chi = 0;
-        for (int i = 0; i < r.Length; i++)
-            for (int j = 0; j < r.Length; j++) chi += r[i] * inv[i, j] * r[j];
-        return Statistics.ChiSquareSurvival(chi, r.Length);
+        double[,] inverse = Matrices.InverseSymmetric(Matrices.Add(c.RandomCovariance, c.SystematicCovariance));
+        return Statistics.ChiSquareSurvival(Matrices.Bilinear(r, inverse, r), r.Length);
     }
 }

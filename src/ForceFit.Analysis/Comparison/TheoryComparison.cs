@@ -133,13 +133,13 @@ public static class TheoryComparison
                 sources.Add((parameters[p].Name, row));
             }
             foreach (SystematicRow r in experimental) sources.Add((r.Run is null ? r.Source : $"{r.Source} ({r.Run})", r.Values.Select(v => -v).ToArray()));
-            double[,] band = NightCombiner.OuterSum(sources.Select(s => s.Row), n);
+            double[,] band = Matrices.OuterSum(sources.Select(s => s.Row), n);
             double[] linear = Enumerable.Range(0, n).Select(i => Math.Sqrt(band[i, i])).ToArray();
 
             double[] residual = night.Value.Zip(nominal[t], (v, f) => v - f).ToArray();
-            double[,] total = Sum(randomCovariance, band);
-            double chi = QuadraticForm(residual, total);
-            double chiRandom = QuadraticForm(residual, randomCovariance);
+            double[,] total = Matrices.Add(randomCovariance, band);
+            double chi = Matrices.Bilinear(residual, Matrices.InverseSymmetric(total), residual);
+            double chiRandom = Matrices.Bilinear(residual, Matrices.InverseSymmetric(randomCovariance), residual);
 
             (double[] low, double[] high, double[] mcSigma) = Percentiles(drawn, t, n);
             var disagreement = new List<double>();
@@ -241,13 +241,13 @@ public static class TheoryComparison
         if (n < 2) return null;
         double theta0 = inputs.Surfaces.PfaCorrection.Value, radius = inputs.Sphere.Radius.Value;
         string thetaName = parameters.FirstOrDefault(p => p.Name == "beyond-PFA coefficient")?.Name ?? "";
-        double[,] c = Sum(random, NightCombiner.OuterSum(sources.Where(s => s.Name != thetaName).Select(s => s.Row), n));
+        double[,] c = Matrices.Add(random, Matrices.OuterSum(sources.Where(s => s.Name != thetaName).Select(s => s.Row), n));
         double[] g = Enumerable.Range(0, n).Select(i => prediction[i] * (a[i] / radius) / (1 + theta0 * a[i] / radius)).ToArray();
         double[,] inverse = Matrices.InverseSymmetric(c);
-        double gg = QuadraticForm(g, inverse, inverted: true), gr = Bilinear(g, inverse, residual);
+        double gg = Matrices.Bilinear(g, inverse, g), gr = Matrices.Bilinear(g, inverse, residual);
         double step = gr / gg;
         double[] after = residual.Select((r, i) => r - step * g[i]).ToArray();
-        return new FittedValue(theta0 + step, Math.Sqrt(1 / gg), QuadraticForm(after, inverse, inverted: true));
+        return new FittedValue(theta0 + step, Math.Sqrt(1 / gg), Matrices.Bilinear(after, inverse, after));
     }
 
     // z0 from the Casimir data alone: the common shift delta of the separations, F(a + delta), by Gauss–Newton with
@@ -268,11 +268,12 @@ public static class TheoryComparison
             double[] down = Predict(inputs, at.Select(x => x - h).ToArray(), night.Frequency)[t];
             double[] slope = up.Zip(down, (u, d) => (u - d) / (2 * h)).ToArray();
             double[] residual = night.Value.Zip(f, (v, x) => v - x).ToArray();
-            double ss = QuadraticForm(slope, inverse, inverted: true);
-            double step = Bilinear(slope, inverse, residual) / ss;
+            double ss = Matrices.Bilinear(slope, inverse, slope);
+            double step = Matrices.Bilinear(slope, inverse, residual) / ss;
             delta += step;
             sigma = Math.Sqrt(1 / ss);
-            chi = QuadraticForm(residual.Select((r, i) => r - step * slope[i]).ToArray(), inverse, inverted: true);
+            double[] after = residual.Select((r, i) => r - step * slope[i]).ToArray();
+            chi = Matrices.Bilinear(after, inverse, after);
             if (Math.Abs(step) < 1e-3 * sigma) break;
         }
         return new FittedValue(delta, sigma, chi);
@@ -311,24 +312,6 @@ public static class TheoryComparison
     {
         double u1 = 1 - random.NextDouble(), u2 = random.NextDouble();
         return Math.Sqrt(-2 * Math.Log(u1)) * Math.Cos(2 * Math.PI * u2);
-    }
-
-    private static double[,] Sum(double[,] x, double[,] y)
-    {
-        var s = (double[,])x.Clone();
-        for (int i = 0; i < s.GetLength(0); i++)
-            for (int j = 0; j < s.GetLength(1); j++) s[i, j] += y[i, j];
-        return s;
-    }
-
-    private static double QuadraticForm(double[] r, double[,] c, bool inverted = false) => Bilinear(r, inverted ? c : Matrices.InverseSymmetric(c), r);
-
-    private static double Bilinear(double[] x, double[,] m, double[] y)
-    {
-        double s = 0;
-        for (int i = 0; i < x.Length; i++)
-            for (int j = 0; j < y.Length; j++) s += x[i] * m[i, j] * y[j];
-        return s;
     }
 
     /// <summary>A short line for the report: chi2/dof, p and the verdict.</summary>

@@ -37,7 +37,7 @@ public sealed record CombinedNight(double[] Separation, double[] Value, double[,
     public double[] SystematicSigma => Enumerable.Range(0, Value.Length).Select(i => Math.Sqrt(Systematics.Sum(r => r.Values[i] * r.Values[i]))).ToArray();
 
     /// <summary>The systematic covariance Sum over rows of r r^T.</summary>
-    public double[,] SystematicCovariance => NightCombiner.OuterSum(Systematics.Select(r => r.Values), Value.Length);
+    public double[,] SystematicCovariance => Matrices.OuterSum(Systematics.Select(r => r.Values), Value.Length);
 
     /// <summary>Birge ratio over the whole night: sqrt(Sum of the points' weighted scatter / Sum of (n − 1)), NaN for a single run.</summary>
     public double OverallBirgeRatio { get; init; } = double.NaN;
@@ -98,15 +98,15 @@ public static class NightCombiner
         for (int r = 0; r < runs.Count; r++)
         {
             var m = Scaled(parts[r].W, g => parts[r].Covers[g] ? weight[r, g] / total[g] : 0);
-            double[] v = Apply(m, runs[r].Value);
+            double[] v = Matrices.Multiply(m, runs[r].Value);
             for (int g = 0; g < n; g++) value[g] += v[g];
-            AddInto(random, Matrices.Propagate(m, runs[r].RandomCovariance));
+            random = Matrices.Add(random, Matrices.Propagate(m, runs[r].RandomCovariance));
             foreach (double[] row in InterpolationRows(parts[r].Interpolation))
                 rows.Add(new SystematicRow("interpolation", runs[r].Run, row.Select((x, g) => parts[r].Covers[g] ? x * weight[r, g] / total[g] : 0).ToArray()));
             foreach (SystematicSource s in runs[r].Systematics)
                 for (int k = 0; k < s.Contributions.Length; k++)
                 {
-                    double[] moved = Apply(m, s.Contributions[k]);
+                    double[] moved = Matrices.Multiply(m, s.Contributions[k]);
                     if (!s.SharedAcrossRuns) { rows.Add(new SystematicRow(s.Name, runs[r].Run, moved)); continue; }
                     if (!shared.TryGetValue((s.Name, k), out double[]? sum)) shared[(s.Name, k)] = sum = new double[n];
                     for (int g = 0; g < n; g++) sum[g] += moved[g];
@@ -196,13 +196,11 @@ public static class NightCombiner
             double difference = stencil.Select((i, k) => full[k] * ratio[i]).Sum() - lower.Select((i, k) => reduced[k] * ratio[i]).Sum();
             interpolation[g] = Math.Abs(difference * sx);
         }
-        double[] values = Apply(w, run.Value);
+        double[] values = Matrices.Multiply(w, run.Value);
         double[,] independent = Matrices.Propagate(w, run.RandomCovariance);
-        var own = run.Systematics.Where(s => !s.SharedAcrossRuns).SelectMany(s => s.Contributions.Select(row => Apply(w, row)))
+        var own = run.Systematics.Where(s => !s.SharedAcrossRuns).SelectMany(s => s.Contributions.Select(row => Matrices.Multiply(w, row)))
             .Concat(InterpolationRows(interpolation));
-        foreach (double[] moved in own)
-            for (int i = 0; i < n; i++)
-                for (int j = 0; j < n; j++) independent[i, j] += moved[i] * moved[j];
+        independent = Matrices.Add(independent, Matrices.OuterSum(own, n));
         return new OnGrid(w, covers, values, independent, interpolation);
     }
 
@@ -283,10 +281,7 @@ public static class NightCombiner
             }
         }
         for (int i = 0; i < k; i++) delta[i] += parts[r].Values[points[i]];
-        double[,] inverse = Matrices.InverseSymmetric(cov);
-        double chi = 0;
-        for (int i = 0; i < k; i++)
-            for (int j = 0; j < k; j++) chi += delta[i] * inverse[i, j] * delta[j];
+        double chi = Matrices.Bilinear(delta, Matrices.InverseSymmetric(cov), delta);
         double p = Statistics.ChiSquareSurvival(chi, k);
         if (p >= FlagProbability) return new RunConsistency(runs[r].Run, k, chi, p, false, null);
         int worst = Enumerable.Range(0, k).MaxBy(i => Math.Abs(delta[i]) / Math.Sqrt(cov[i, i]));
@@ -304,29 +299,5 @@ public static class NightCombiner
             for (int i = 0; i < m.GetLength(1); i++) m[g, i] *= f;
         }
         return m;
-    }
-
-    private static double[] Apply(double[,] m, IReadOnlyList<double> v)
-    {
-        var result = new double[m.GetLength(0)];
-        for (int g = 0; g < result.Length; g++)
-            for (int i = 0; i < v.Count; i++) result[g] += m[g, i] * v[i];
-        return result;
-    }
-
-    private static void AddInto(double[,] target, double[,] add)
-    {
-        for (int i = 0; i < target.GetLength(0); i++)
-            for (int j = 0; j < target.GetLength(1); j++) target[i, j] += add[i, j];
-    }
-
-    /// <summary>Sum over vectors of v v^T.</summary>
-    public static double[,] OuterSum(IEnumerable<double[]> vectors, int n)
-    {
-        var c = new double[n, n];
-        foreach (double[] v in vectors)
-            for (int i = 0; i < n; i++)
-                for (int j = 0; j < n; j++) c[i, j] += v[i] * v[j];
-        return c;
     }
 }
