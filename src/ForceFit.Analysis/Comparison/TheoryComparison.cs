@@ -75,7 +75,8 @@ public static class TheoryComparison
         double[] a = night.Separation;
         int n = a.Length, theories = inputs.Theories.Count;
         IReadOnlyList<TheoryParameter> parameters = TheoryParameters.Of(inputs);
-        double[][] nominal = Predict(inputs, a, night.Frequency);
+        var smooth = new RatioInterpolation(inputs, a, night.Frequency);
+        double[][] nominal = smooth.Nominal;
 
         // Linearisation: central differences over ±1 sigma of each theory input.
         var theoryRows = new double[parameters.Count][][]; // [parameter][theory][point]
@@ -95,7 +96,6 @@ public static class TheoryComparison
 
         // Monte Carlo draws: each draw one normal deviate per theory input and per experimental row.
         int draws = Math.Max(options.Draws, 0);
-        var smooth = new RatioInterpolation(inputs, a, night.Frequency);
         var drawn = new double[draws][][];
         int finished = 0;
         Parallel.For(0, draws, new ParallelOptions { CancellationToken = cancel }, d =>
@@ -160,9 +160,11 @@ public static class TheoryComparison
     }
 
     /// <summary>Every theory's prediction (gradient or force) at the separations, in theory order.</summary>
-    public static double[][] Predict(TheoryInputs inputs, double[] a, bool frequency)
+    public static double[][] Predict(TheoryInputs inputs, double[] a, bool frequency) => Predict(TheoryModels.Prepare(inputs), a, frequency);
+
+    /// <summary>Every prepared theory's prediction (gradient or force) at the separations, in theory order.</summary>
+    public static double[][] Predict(IReadOnlyList<PreparedTheory> prepared, double[] a, bool frequency)
     {
-        IReadOnlyList<PreparedTheory> prepared = TheoryModels.Prepare(inputs);
         IReadOnlyList<TheoryRow> rows = TheoryModels.Evaluate(prepared, a);
         return Enumerable.Range(0, prepared.Count)
             .Select(t => Enumerable.Range(0, a.Length).Select(i => frequency ? rows[t * a.Length + i].ForceGradient : rows[t * a.Length + i].Force).ToArray())
@@ -186,8 +188,10 @@ public static class TheoryComparison
         private readonly bool _frequency;
         private readonly double[] _nodes;
         private readonly double[][] _nominalAtNodes;
-        private readonly double[][] _nominal;
         private readonly double[] _weights;
+
+        /// <summary>Every theory's nominal prediction at the separations (exact).</summary>
+        public double[][] Nominal { get; }
 
         /// <summary>Prepares the nominal prediction at the separations and at the nodes.</summary>
         public RatioInterpolation(TheoryInputs nominal, double[] a, bool frequency)
@@ -198,8 +202,9 @@ public static class TheoryComparison
             _nodes = a.Length <= Nodes || !(hi > lo) ? a
                 : Enumerable.Range(0, Nodes).Select(k => Math.Exp((lo + hi) / 2 + (hi - lo) / 2 * Math.Cos((2 * k + 1) * Math.PI / (2 * Nodes)))).ToArray();
             _weights = Enumerable.Range(0, _nodes.Length).Select(k => (k % 2 == 0 ? 1 : -1) * Math.Sin((2 * k + 1) * Math.PI / (2 * Nodes))).ToArray();
-            _nominal = TheoryComparison.Predict(nominal, a, frequency);
-            _nominalAtNodes = ReferenceEquals(_nodes, a) ? _nominal : TheoryComparison.Predict(nominal, _nodes, frequency);
+            IReadOnlyList<PreparedTheory> prepared = TheoryModels.Prepare(nominal);
+            Nominal = TheoryComparison.Predict(prepared, a, frequency);
+            _nominalAtNodes = ReferenceEquals(_nodes, a) ? Nominal : TheoryComparison.Predict(prepared, _nodes, frequency);
         }
 
         /// <summary>Every theory's prediction with the given inputs at the separations.</summary>
@@ -211,9 +216,9 @@ public static class TheoryComparison
             var result = new double[drawn.Length][];
             for (int t = 0; t < drawn.Length; t++)
             {
-                if (_nominalAtNodes[t].Any(v => v == 0) || _nominal[t].Any(v => v == 0)) { result[t] = TheoryComparison.Predict(inputs, _a, _frequency)[t]; continue; }
+                if (_nominalAtNodes[t].Any(v => v == 0) || Nominal[t].Any(v => v == 0)) { result[t] = TheoryComparison.Predict(inputs, _a, _frequency)[t]; continue; }
                 double[] ratio = drawn[t].Zip(_nominalAtNodes[t], (d, n) => d / n).ToArray();
-                result[t] = _a.Select((x, i) => _nominal[t][i] * Barycentric(u, _weights, ratio, Math.Log(x))).ToArray();
+                result[t] = _a.Select((x, i) => Nominal[t][i] * Barycentric(u, _weights, ratio, Math.Log(x))).ToArray();
             }
             return result;
         }
@@ -257,15 +262,16 @@ public static class TheoryComparison
         int n = a.Length;
         if (n < 2) return null;
         double[,] inverse = Matrices.InverseSymmetric(covariance);
+        PreparedTheory[] theory = [TheoryModels.Prepare(inputs)[t]];
         double delta = 0, sigma = double.NaN, chi = double.NaN;
         const double h = 0.2e-9;
         for (int iteration = 0; iteration < 4; iteration++)
         {
             double[] at = a.Select(x => x + delta).ToArray();
             if (at.Any(x => x <= h)) return null;
-            double[] f = Predict(inputs, at, night.Frequency)[t];
-            double[] up = Predict(inputs, at.Select(x => x + h).ToArray(), night.Frequency)[t];
-            double[] down = Predict(inputs, at.Select(x => x - h).ToArray(), night.Frequency)[t];
+            double[] f = Predict(theory, at, night.Frequency)[0];
+            double[] up = Predict(theory, at.Select(x => x + h).ToArray(), night.Frequency)[0];
+            double[] down = Predict(theory, at.Select(x => x - h).ToArray(), night.Frequency)[0];
             double[] slope = up.Zip(down, (u, d) => (u - d) / (2 * h)).ToArray();
             double[] residual = night.Value.Zip(f, (v, x) => v - x).ToArray();
             double ss = Matrices.Bilinear(slope, inverse, slope);

@@ -14,11 +14,11 @@ namespace ForceFit.Analysis.Reduction;
 /// <param name="Amplitude">Oscillation amplitude A (frequency mode).</param>
 /// <param name="SpringConstant">k when given, else null (fitted).</param>
 /// <param name="Sensitivity">m when given, else null (fitted or from k).</param>
-/// <param name="ReferenceCasimir">The Casimir force gradient (frequency mode) or force (deflection) at a gap, from the
-/// settings' theories, felt by the reference steps; null when no theory is given (reference steps then taken as force-free).</param>
+/// <param name="ReferenceCasimir">Each of the settings' theories' Casimir force gradient (frequency mode) or force
+/// (deflection) at a gap, felt by the reference steps; null when no theory is given (reference steps then taken as force-free).</param>
 /// <param name="ReferenceCasimirScale">Factor on it (1; varied for its systematic).</param>
 internal sealed record RunConstants(double Scale, double Radius, double Amplitude, double? SpringConstant, double? Sensitivity,
-    Func<double, double>? ReferenceCasimir = null, double ReferenceCasimirScale = 1);
+    Func<double, double[]>? ReferenceCasimir = null, double ReferenceCasimirScale = 1);
 
 /// <summary>
 /// Reduces one run's steps (voltage-steps protocol) to a calibrated force gradient or force per piezo position
@@ -56,7 +56,7 @@ public static class RunReducer
         if (run.Instrument.Mode == InstrumentMode.FrequencyShift)
             Vary("amplitude", (c, d) => c with { Amplitude = Math.Max(0, c.Amplitude + d) }, run.Instrument.Amplitude.Sigma, true);
         if (nominal.ReferenceCasimir is not null)
-            Vary("reference-gap Casimir force", (c, d) => c with { ReferenceCasimirScale = 1 + d }, ReferenceCasimirRelativeSigma(run, core), true);
+            Vary("reference-gap Casimir force", (c, d) => c with { ReferenceCasimirScale = 1 + d }, ReferenceCasimirRelativeSigma(nominal.ReferenceCasimir, core), true);
         if (run.Instrument.SpringConstant is { } k) Vary("spring constant (given)", (c, d) => c with { SpringConstant = k.Value + d }, k.Sigma, false);
         if (run.Instrument.DeflectionSensitivity is { } m) Vary("deflection sensitivity (given)", (c, d) => c with { Sensitivity = m.Value + d }, m.Sigma, false);
 
@@ -81,23 +81,21 @@ public static class RunReducer
     // The reference steps are not force-free: at a few micrometres the Casimir gradient is still ~1e-4 of its value at
     // 1 um, which biases f0 (or S_free) and hence every far point. It is taken from the settings' theories — their mean,
     // which reduces the dependence on which one is right — at the reference gap of each pass.
-    private static Func<double, double>? ReferenceCasimir(RunSettings run)
+    private static Func<double, double[]>? ReferenceCasimir(RunSettings run)
     {
         if (run.Theory.Theories.Count == 0) return null;
         IReadOnlyList<PreparedTheory> theories = TheoryModels.Prepare(run.Theory);
         bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
-        return a => theories.Average(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; });
+        return a => theories.Select(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; }).ToArray();
     }
 
     // Its relative uncertainty: half the spread of the theories at the mean reference gap (the models differ most in the
     // thermal regime), or 20% with a single theory (our choice, stated in the report).
-    private static double ReferenceCasimirRelativeSigma(RunSettings run, Core core)
+    private static double ReferenceCasimirRelativeSigma(Func<double, double[]> theories, Core core)
     {
         double[] gaps = core.ReferenceGaps;
         if (gaps.Length == 0) return 0;
-        double a = gaps.Average();
-        bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
-        double[] values = TheoryModels.Prepare(run.Theory).Select(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; }).ToArray();
+        double[] values = theories(gaps.Average());
         if (values.Length < 2) return 0.2;
         double mean = values.Average();
         return mean == 0 ? 0 : (values.Max() - values.Min()) / 2 / Math.Abs(mean);
@@ -241,7 +239,7 @@ public static class RunReducer
         double a = ReferenceGap(r, s, c, sign);
         double v0 = ResidualPotentialAt(s, a);
         double dv = r.Bias - v0;
-        double casimir = c.ReferenceCasimir is { } f ? c.ReferenceCasimirScale * f(a) : 0;
+        double casimir = c.ReferenceCasimir is { } f ? c.ReferenceCasimirScale * f(a).Average() : 0;
         if (!double.IsFinite(casimir)) casimir = 0;
         if (frequency)
         {
