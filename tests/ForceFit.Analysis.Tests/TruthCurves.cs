@@ -43,3 +43,20 @@ internal static class TruthCurves
         return Statistics.ChiSquareSurvival(Matrices.Bilinear(r, inverse, r), r.Length);
     }
 }
+
+/// <summary>The acceptance rule for pulls (estimate − truth)/sigma over many simulated nights.</summary>
+internal static class Pulls
+{
+    /// <summary>Asserts rms in [0.8, 1.25] and mean within ±0.3 for each named set of pulls, printing both.</summary>
+    public static void AssertUnitRms(params (string Name, IEnumerable<double> Values)[] sets)
+    {
+        foreach (var (name, values) in sets)
+        {
+            double[] v = values.ToArray();
+            double rms = Math.Sqrt(v.Average(x => x * x)), mean = v.Average();
+            TestContext.Out.WriteLine($"{name}: pull rms {rms:F3}, mean {mean:F3}");
+            Assert.That(rms, Is.InRange(0.8, 1.25), name + " pull rms");
+            Assert.That(mean, Is.InRange(-0.3, 0.3), name + " pull mean");
+        }
+    }
+}

@@ -43,14 +43,7 @@ public sealed class FrequencyCalibrationPullTests : TemporaryFolderTest
                 (v0 - v0True) / v0Sigma, (c.GapDrift!.Value - t.GapDriftRate) / c.GapDrift.Sigma, c.PValue);
         });
         using var scope = Assert.EnterMultipleScope();
-        foreach (var (name, values) in new[] { ("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("V0", pulls.Select(p => p.V0)), ("gap drift", pulls.Select(p => p.Drift)) })
-        {
-            double[] v = values.ToArray();
-            double rms = Math.Sqrt(v.Average(x => x * x)), mean = v.Average();
-            TestContext.Out.WriteLine($"{name}: pull rms {rms:F3}, mean {mean:F3}");
-            Assert.That(rms, Is.InRange(0.8, 1.25), name + " pull rms");
-            Assert.That(mean, Is.InRange(-0.3, 0.3), name + " pull mean");
-        }
+        Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("V0", pulls.Select(p => p.V0)), ("gap drift", pulls.Select(p => p.Drift)));
         int consistent = pulls.Count(p => p.PValue > 0.01);
         TestContext.Out.WriteLine($"calibration p > 0.01 in {consistent} of {Seeds}");
         Assert.That(consistent, Is.GreaterThanOrEqualTo(27), "the calibration chi-square is consistent with its degrees of freedom in at least 90% of nights");
