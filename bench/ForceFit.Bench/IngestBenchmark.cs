@@ -15,13 +15,14 @@ public static class IngestBenchmark
     public static void Run(string? nightFolder)
     {
         bool large = Environment.GetEnvironmentVariable("FORCEFIT_BENCH_4GB") == "1";
-        string folder = nightFolder ?? Path.Combine(Path.GetTempPath(), large ? "forcefit-bench-ingest-4gb" : "forcefit-bench-ingest");
+        string folder = nightFolder ?? Path.Combine(Path.GetTempPath(), large ? "forcefit-bench-ingest-4gb" : "forcefit-bench-ingest-v2");
         if (nightFolder is null && !Directory.Exists(folder))
         {
             // FORCEFIT_BENCH_4GB=1: about 10^8 samples, a 4.3 GB CSV, for the memory check on a very large night.
             var s = new Scenario { Runs = 1, SampleRate = large ? 100_000 : 10_000, StepDuration = 5.2, Positions = 24, Biases = 7 };
             NightSimulator.Simulate(new SimulationRequest(folder, s, 1, false, SimulationRequest.DefaultColumns(s.Mode, false)));
-            var h5 = new Scenario { Runs = 1, SampleRate = 2_000, StepDuration = 5.2, Positions = 24, Biases = 7 };
+            // 10^7 samples here too (320 MB): a small file would measure the JIT's warm-up, not the reader.
+            var h5 = new Scenario { Runs = 1, SampleRate = 10_000, StepDuration = 5.2, Positions = 24, Biases = 7 };
             NightSimulator.Simulate(new SimulationRequest(folder + "-h5", h5, 1, true, SimulationRequest.DefaultColumns(h5.Mode, true)));
         }
         foreach (string night in new[] { folder, folder + "-h5" }.Where(Directory.Exists))
@@ -35,8 +36,7 @@ public static class IngestBenchmark
             long count = 0;
             using (var source = ForceFit.Ingest.Streams.SampleSources.Open(run))
             {
-                var block = new ForceFit.Ingest.Streams.SampleBlock(1 << 16);
-                while (source.Read(block)) count += block.Count;
+                while (source.Next() is { } block) count += block.Count;
             }
             double sourceSeconds = watch.Elapsed.TotalSeconds;
             Console.WriteLine($"  reading and parsing alone: {bytes / sourceSeconds / 1e6:F0} MB/s ({count} samples)");

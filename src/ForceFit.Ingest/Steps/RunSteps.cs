@@ -56,33 +56,33 @@ public sealed record RunSegments(RunSettings Run, IReadOnlyList<SegmentStatistic
 /// </summary>
 public static class RunSteps
 {
-    private const int BlockSize = 1 << 16;
+    // The readout noise that sets the step thresholds is estimated from the first samples.
+    private const int ThresholdSamples = 1 << 16;
     private const int MaxLag = 256;
 
     /// <summary>Reduces one run. Progress receives bytes read; cancellation is checked between blocks.</summary>
     public static RunSegments Read(RunSettings run, IProgress<long>? progress = null, CancellationToken cancel = default)
     {
         using ISampleSource source = SampleSources.Open(run);
-        var block = new SampleBlock(BlockSize);
         var warnings = new List<string>();
         var pending = new List<Raw>();
         var noise = new NoiseModel.Accumulator(MaxLag);
         var envelope = new EnvelopeBuilder();
         Segmenter? segmenter = null;
         long samples = 0;
-        while (source.Read(block))
+        while (source.Next() is { } block)
         {
             cancel.ThrowIfCancellationRequested();
             if (segmenter is null)
             {
-                StepThresholds t = StepThresholds.Estimate(block.Piezo.AsSpan(0, block.Count), block.Bias.AsSpan(0, block.Count));
+                int head = Math.Min(block.Count, ThresholdSamples);
+                StepThresholds t = StepThresholds.Estimate(block.Piezo.AsSpan(0, head), block.Bias.AsSpan(0, head));
                 segmenter = run.Protocol == Protocol.VoltageSteps ? new StepSegmenter(run, t, pending, noise) : new RampSegmenter(run, t, pending, noise);
             }
-            for (int i = 0; i < block.Count; i++)
-            {
-                segmenter.Add(block.Time[i], block.Piezo[i], block.Bias[i], block.Signal[i], block.Lines[i]);
-                envelope.Add(block.Time[i], block.Piezo[i], block.Bias[i], block.Signal[i]);
-            }
+            // The figures' envelope is built on a worker while this thread finds the steps; both only read the block.
+            Task drawing = Task.Run(() => envelope.Add(block), CancellationToken.None);
+            segmenter.Add(block);
+            drawing.GetAwaiter().GetResult();
             samples += block.Count;
             progress?.Report(source.BytesRead);
         }
@@ -113,7 +113,7 @@ public static class RunSteps
         private readonly double[] _sorted = new double[4097];
         public StepThresholds Thresholds { get; } = thresholds;
 
-        public abstract void Add(double t, double p, double v, double s, long line);
+        public abstract void Add(SampleBlock block);
 
         public abstract void Finish();
 
@@ -121,9 +121,10 @@ public static class RunSteps
             && (Run.Piezo.Direction == PiezoDirection.Away ? piezo > beyond.Value : piezo < beyond.Value);
 
         /// <summary>Clips glitches, records residuals for the noise model, and returns mean, naive sigma, n and clipped.</summary>
-        protected (double Mean, double Naive, int N, int Clipped) Summarise(List<double> values, Func<int, double>? trend = null)
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+        protected (double Mean, double Naive, int N, int Clipped) Summarise(ReadOnlySpan<double> values, Func<int, double>? trend = null)
         {
-            int n = values.Count;
+            int n = values.Length;
             if (n == 0) return (double.NaN, double.NaN, 0, 0);
             if (_residual.Length < n)
             {
@@ -131,39 +132,41 @@ public static class RunSteps
                 _keptResidual = new double[_residual.Length];
             }
             Span<double> residual = _residual.AsSpan(0, n);
-            for (int i = 0; i < n; i++) residual[i] = values[i] - (trend?.Invoke(i) ?? 0);
+            if (trend is null) values.CopyTo(residual);
+            else for (int i = 0; i < n; i++) residual[i] = values[i] - trend(i);
             // Robust centre and spread (median and 1.4826 MAD) from at most 4096 evenly spaced samples: enough to
             // recognise glitches of tens of sigmas, and cheap for long steps.
             int stride = Math.Max(1, (n + 4095) / 4096);
-            Span<double> sorted = _sorted.AsSpan(0, (n + stride - 1) / stride);
-            for (int i = 0, j = 0; i < n; i += stride) sorted[j++] = residual[i];
-            sorted.Sort();
-            double median = sorted[sorted.Length / 2];
-            for (int i = 0; i < sorted.Length; i++) sorted[i] = Math.Abs(sorted[i] - median);
-            sorted.Sort();
-            double spread = 1.4826 * sorted[sorted.Length / 2];
+            Span<double> sample = _sorted.AsSpan(0, (n + stride - 1) / stride);
+            for (int i = 0, j = 0; i < n; i += stride) sample[j++] = residual[i];
+            double median = Selection.Nth(sample, sample.Length / 2);
+            for (int i = 0; i < sample.Length; i++) sample[i] = Math.Abs(sample[i] - median);
+            double spread = 1.4826 * Selection.Nth(sample, sample.Length / 2);
             int clipped = 0;
             double sum = 0, sumTrend = 0;
             int kept = 0;
             Span<double> keptResidual = _keptResidual.AsSpan(0, n);
+            double limit = spread > 0 ? 10 * spread : double.PositiveInfinity;
             for (int i = 0; i < n; i++)
             {
-                if (spread > 0 && Math.Abs(residual[i] - median) > 10 * spread)
+                double r = residual[i];
+                if (Math.Abs(r - median) > limit)
                 {
                     clipped++;
                     continue;
                 }
-                keptResidual[kept++] = residual[i];
+                keptResidual[kept++] = r;
                 sum += values[i];
-                sumTrend += trend?.Invoke(i) ?? 0;
+                if (trend is not null) sumTrend += trend(i);
             }
             double mean = sum / kept;
             double residualMean = (sum - sumTrend) / kept;
             double ss = 0;
             for (int i = 0; i < kept; i++)
             {
-                keptResidual[i] -= residualMean;
-                ss += keptResidual[i] * keptResidual[i];
+                double r = keptResidual[i] - residualMean;
+                keptResidual[i] = r;
+                ss += r * r;
             }
             _noise.Add(keptResidual[..kept], kept);
             return (mean, kept > 1 ? Math.Sqrt(ss / (kept - 1) / kept) : double.NaN, kept, clipped);
@@ -175,9 +178,7 @@ public static class RunSteps
     {
         private readonly StepDetector _detector;
         private readonly double _settle;
-        private readonly List<double> _t = [], _p = [], _v = [], _s = [];
-        private readonly List<long> _lines = [];
-        private readonly List<double> _kept = [];
+        private readonly StepBuffer _step = new();
 
         public StepSegmenter(RunSettings run, StepThresholds thresholds, List<Raw> output, NoiseModel.Accumulator noise)
             : base(run, thresholds, output, noise)
@@ -186,40 +187,85 @@ public static class RunSteps
             _settle = run.Settle?.Value ?? 0;
         }
 
-        public override void Add(double t, double p, double v, double s, long line)
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+        public override void Add(SampleBlock block)
         {
-            _t.Add(t); _p.Add(p); _v.Add(v); _s.Add(s); _lines.Add(line);
-            int moved = _detector.Add(p, v);
-            if (moved == 0) return;
-            int cut = _t.Count - moved;
-            Close(cut);
-            _t.RemoveRange(0, cut); _p.RemoveRange(0, cut); _v.RemoveRange(0, cut); _s.RemoveRange(0, cut); _lines.RemoveRange(0, cut);
+            double[] piezo = block.Piezo, bias = block.Bias;
+            int n = block.Count, from = 0;
+            for (int i = 0; i < n; i++)
+            {
+                int moved = _detector.Add(piezo[i], bias[i]);
+                if (moved == 0) continue;
+                _step.Append(block, from, i + 1);
+                from = i + 1;
+                int cut = _step.Count - moved;
+                Close(cut);
+                _step.RemoveFront(cut);
+            }
+            _step.Append(block, from, n);
         }
 
-        public override void Finish() => Close(_t.Count);
+        public override void Finish() => Close(_step.Count);
 
         private void Close(int count)
         {
             if (count == 0) return;
-            double start = _t[0];
-            List<double> kept = _kept;
-            kept.Clear();
+            double[] t = _step.Time;
+            double start = t[0];
+            int first = 0;
+            while (first < count && t[first] < start + _settle - 1e-12) first++;
+            int kept = count - first;
+            if (kept == 0) return; // a step shorter than the settle time holds nothing to keep
             double sumP = 0, sumV = 0, sumT = 0;
-            int first = -1;
-            for (int i = 0; i < count; i++)
+            for (int i = first; i < count; i++)
             {
-                if (_t[i] < start + _settle - 1e-12) continue;
-                if (first < 0) first = i;
-                kept.Add(_s[i]);
-                sumP += _p[i];
-                sumV += _v[i];
-                sumT += _t[i];
+                sumP += _step.Piezo[i];
+                sumV += _step.Bias[i];
+                sumT += t[i];
             }
-            if (kept.Count == 0) return; // a step shorter than the settle time holds nothing to keep
-            (double mean, double naive, int n, int clipped) = Summarise(kept);
-            double piezo = sumP / kept.Count;
-            Output.Add(new Raw(IsReference(piezo) ? SegmentKind.Reference : SegmentKind.Step, start, _t[count - 1], piezo, sumV / kept.Count,
-                mean, naive, n, clipped, _lines[0], sumT / kept.Count));
+            (double mean, double naive, int n, int clipped) = Summarise(_step.Signal.AsSpan(first, kept));
+            double piezo = sumP / kept;
+            Output.Add(new Raw(IsReference(piezo) ? SegmentKind.Reference : SegmentKind.Step, start, t[count - 1], piezo, sumV / kept,
+                mean, naive, n, clipped, _step.Lines[0], sumT / kept));
+        }
+    }
+
+    /// <summary>The samples of the step being read, in growable arrays reused from step to step.</summary>
+    internal sealed class StepBuffer
+    {
+        public double[] Time = new double[1024], Piezo = new double[1024], Bias = new double[1024], Signal = new double[1024];
+        public long[] Lines = new long[1024];
+        public int Count;
+
+        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+        public void Append(SampleBlock block, int from, int to)
+        {
+            int n = to - from;
+            if (n <= 0) return;
+            if (Count + n > Time.Length)
+            {
+                int size = Math.Max(Count + n, 2 * Time.Length);
+                Array.Resize(ref Time, size); Array.Resize(ref Piezo, size); Array.Resize(ref Bias, size); Array.Resize(ref Signal, size); Array.Resize(ref Lines, size);
+            }
+            Array.Copy(block.Time, from, Time, Count, n);
+            Array.Copy(block.Piezo, from, Piezo, Count, n);
+            Array.Copy(block.Bias, from, Bias, Count, n);
+            Array.Copy(block.Signal, from, Signal, Count, n);
+            long lineBase = block.LineBase;
+            int[] offsets = block.LineOffsets;
+            for (int i = 0; i < n; i++) Lines[Count + i] = lineBase + offsets[from + i];
+            Count += n;
+        }
+
+        public void RemoveFront(int cut)
+        {
+            int rest = Count - cut;
+            Array.Copy(Time, cut, Time, 0, rest);
+            Array.Copy(Piezo, cut, Piezo, 0, rest);
+            Array.Copy(Bias, cut, Bias, 0, rest);
+            Array.Copy(Signal, cut, Signal, 0, rest);
+            Array.Copy(Lines, cut, Lines, 0, rest);
+            Count = rest;
         }
     }
 
@@ -244,14 +290,18 @@ public static class RunSteps
             _reversal = Math.Max(20 * thresholds.PiezoNoise, 2 * _bin);
         }
 
-        public override void Add(double t, double p, double v, double s, long line)
+        public override void Add(SampleBlock block)
         {
-            _segment.Add((t, p, v, s, line));
-            int moved = _biasDetector.Add(p, v);
-            if (moved == 0) return;
-            int cut = _segment.Count - moved;
-            CloseSegment(cut);
-            _segment.RemoveRange(0, cut);
+            for (int i = 0; i < block.Count; i++)
+            {
+                double p = block.Piezo[i], v = block.Bias[i];
+                _segment.Add((block.Time[i], p, v, block.Signal[i], block.LineOf(i)));
+                int moved = _biasDetector.Add(p, v);
+                if (moved == 0) continue;
+                int cut = _segment.Count - moved;
+                CloseSegment(cut);
+                _segment.RemoveRange(0, cut);
+            }
         }
 
         public override void Finish() => CloseSegment(_segment.Count);
@@ -316,7 +366,7 @@ public static class RunSteps
                     sxy += dx * (_segment[i].S - meanS);
                 }
                 double slope = sxx > 0 ? sxy / sxx : 0;
-                var values = idx.Select(i => _segment[i].S).ToList();
+                double[] values = idx.Select(i => _segment[i].S).ToArray();
                 (double mean, double naive, int n, int clipped) = Summarise(values, k => slope * (_segment[idx[k]].P - meanP));
                 Output.Add(new Raw(IsReference(meanP) ? SegmentKind.Reference : kind, _segment[idx[0]].T, _segment[idx[^1]].T, meanP,
                     idx.Average(i => _segment[i].V), mean, naive, n, clipped, _segment[idx[0]].Line, idx.Average(i => _segment[i].T)));

@@ -32,37 +32,53 @@ public sealed class EnvelopeBuilder(int targetBins = 1000, int firstSamples = 40
     private long _perBin = 1;
     private long _inBin;
 
-    /// <summary>Adds one sample (SI).</summary>
-    public void Add(double t, double piezo, double bias, double signal)
+    /// <summary>Adds a block of samples (SI).</summary>
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+    public void Add(ForceFit.Ingest.Streams.SampleBlock block)
     {
-        if (_first[0].Count < firstSamples)
+        int n = block.Count;
+        int head = Math.Min(firstSamples - _first[0].Count, n);
+        if (head > 0)
         {
-            _first[0].Add(t);
-            _first[1].Add(piezo);
-            _first[2].Add(bias);
-            _first[3].Add(signal);
+            _first[0].AddRange(block.Time.AsSpan(0, head));
+            _first[1].AddRange(block.Piezo.AsSpan(0, head));
+            _first[2].AddRange(block.Bias.AsSpan(0, head));
+            _first[3].AddRange(block.Signal.AsSpan(0, head));
         }
-        if (_inBin == 0)
+        for (int i = 0; i < n;)
         {
-            if (_time.Count >= 2 * targetBins) Merge();
-            _time.Add(t);
-            for (int c = 0; c < 3; c++)
+            if (_inBin == 0)
             {
-                _min[c].Add(double.PositiveInfinity);
-                _max[c].Add(double.NegativeInfinity);
+                if (_time.Count >= 2 * targetBins) Merge();
+                _time.Add(block.Time[i]);
+                for (int c = 0; c < 3; c++)
+                {
+                    _min[c].Add(double.PositiveInfinity);
+                    _max[c].Add(double.NegativeInfinity);
+                }
             }
+            int take = (int)Math.Min(_perBin - _inBin, n - i);
+            int last = _time.Count - 1;
+            Update(0, last, block.Piezo.AsSpan(i, take));
+            Update(1, last, block.Bias.AsSpan(i, take));
+            Update(2, last, block.Signal.AsSpan(i, take));
+            _inBin += take;
+            if (_inBin >= _perBin) _inBin = 0;
+            i += take;
         }
-        int last = _time.Count - 1;
-        Update(0, last, piezo);
-        Update(1, last, bias);
-        Update(2, last, signal);
-        if (++_inBin >= _perBin) _inBin = 0;
     }
 
-    private void Update(int channel, int bin, double value)
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+    private void Update(int channel, int bin, ReadOnlySpan<double> values)
     {
-        if (value < _min[channel][bin]) _min[channel][bin] = value;
-        if (value > _max[channel][bin]) _max[channel][bin] = value;
+        double lo = _min[channel][bin], hi = _max[channel][bin];
+        foreach (double v in values)
+        {
+            if (v < lo) lo = v;
+            if (v > hi) hi = v;
+        }
+        _min[channel][bin] = lo;
+        _max[channel][bin] = hi;
     }
 
     private void Merge()

@@ -23,8 +23,7 @@ public sealed record StepThresholds(double Piezo, double Bias, double PiezoNoise
         if (x.Length < 3) return 0;
         var d = new double[x.Length - 1];
         for (int i = 1; i < x.Length; i++) d[i - 1] = Math.Abs(x[i] - x[i - 1]);
-        Array.Sort(d);
-        double median = d[d.Length / 2];
+        double median = Selection.Nth(d, d.Length / 2);
         return median / (0.6745 * Math.Sqrt(2));
     }
 }
@@ -42,7 +41,7 @@ public sealed class StepDetector
     private readonly StepThresholds _t;
     private double _sumP, _sumV;
     private long _count;
-    private readonly List<int> _candidates = new(Confirm);
+    private int _candidates;
     private double _candP, _candV;
 
     /// <summary>Starts with the thresholds.</summary>
@@ -52,44 +51,38 @@ public sealed class StepDetector
     /// Feeds one sample; returns the number of samples, counting back from this one, that belong to a new step
     /// (0 when no new step starts here).
     /// </summary>
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveInlining)]
     public int Add(double piezo, double bias)
     {
-        if (_count == 0)
+        // |x - sum/n| > threshold, written without the division: |n x - sum| > n threshold.
+        double n = _count;
+        bool away = Math.Abs(piezo * n - _sumP) > _t.Piezo * n || Math.Abs(bias * n - _sumV) > _t.Bias * n;
+        if (!away || _count == 0)
         {
-            _sumP = piezo;
-            _sumV = bias;
-            _count = 1;
-            return 0;
-        }
-        double meanP = _sumP / _count, meanV = _sumV / _count;
-        bool away = Math.Abs(piezo - meanP) > _t.Piezo || Math.Abs(bias - meanV) > _t.Bias;
-        if (!away)
-        {
-            _candidates.Clear();
+            _candidates = 0;
             _sumP += piezo;
             _sumV += bias;
             _count++;
             return 0;
         }
-        if (_candidates.Count == 0)
+        return Candidate(piezo, bias);
+    }
+
+    private int Candidate(double piezo, double bias)
+    {
+        if (_candidates == 0 || Math.Abs(piezo - _candP) > _t.Piezo || Math.Abs(bias - _candV) > _t.Bias)
         {
+            // The first sample off the level, or one not consistent with the candidate level: the candidate starts here.
+            _candidates = 0;
             _candP = piezo;
             _candV = bias;
         }
-        else if (Math.Abs(piezo - _candP) > _t.Piezo || Math.Abs(bias - _candV) > _t.Bias)
-        {
-            // Not consistent with the candidate level: start the candidate again here.
-            _candidates.Clear();
-            _candP = piezo;
-            _candV = bias;
-        }
-        _candidates.Add(0);
-        if (_candidates.Count < Confirm) return 0;
+        if (++_candidates < Confirm) return 0;
         // Confirmed: the new step began Confirm samples ago.
         _sumP = _candP * Confirm;
         _sumV = _candV * Confirm;
         _count = Confirm;
-        _candidates.Clear();
+        _candidates = 0;
         return Confirm;
     }
 }

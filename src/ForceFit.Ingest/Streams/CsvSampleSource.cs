@@ -25,7 +25,7 @@ public sealed class CsvSampleSource : ISampleSource
     private readonly List<string> _warnings = [];
     private double _lastTime = double.NegativeInfinity;
     private long _lastTimeLine;
-    private bool _pending;
+    private readonly SampleBlock _block = new(1 << 16);
 
     /// <summary>Opens the run's data file (read-only) and maps its columns.</summary>
     public CsvSampleSource(RunSettings run)
@@ -71,14 +71,14 @@ public sealed class CsvSampleSource : ISampleSource
     public IReadOnlyList<string> Warnings => _warnings;
 
     /// <inheritdoc />
-    public bool Read(SampleBlock block)
+    public SampleBlock? Next()
     {
+        SampleBlock block = _block;
         block.Count = 0;
         Span<double> values = stackalloc double[4];
         while (block.Count < block.Capacity)
         {
-            if (!_pending && !_reader.Read()) break;
-            _pending = false;
+            if (!_reader.Read()) break;
             long line = _reader.LineNumber;
             if (!ParseRecord(values, out string? problem))
             {
@@ -92,24 +92,24 @@ public sealed class CsvSampleSource : ISampleSource
                 throw new InputException(new Problem(_file, (int)Math.Min(line, int.MaxValue), problem!));
             }
             int i = block.Count++;
+            if (i == 0) block.LineBase = line;
             block.Time[i] = values[0] * _toSi[0];
             block.Piezo[i] = values[1] * _toSi[1];
             block.Bias[i] = values[2] * _toSi[2];
             block.Signal[i] = values[3] * _toSi[3];
-            block.Lines[i] = line;
+            block.LineOffsets[i] = (int)(line - block.LineBase);
             if (!(block.Time[i] > _lastTime))
                 throw new InputException(new Problem(_file, (int)line, $"column '{_names[0]}': time does not increase ({values[0]} after the value on line {_lastTimeLine})"));
             _lastTime = block.Time[i];
             _lastTimeLine = line;
         }
-        return block.Count > 0;
+        return block.Count > 0 ? block : null;
     }
 
     private bool ParseRecord(Span<double> values, out string? problem)
     {
         ReadOnlySpan<byte> record = _reader.RawRecord;
         problem = null;
-        if (ChunkParsing.Fast(record, _separator, _index, _fieldCount, values)) return true;
         if (record.IndexOf((byte)'"') < 0) return ChunkParsing.Careful(record, _separator, _index, _fieldCount, _names, values, out problem);
         // Quoted fields: CsvHelper unquotes them.
         if (_reader.FieldCount != _fieldCount)

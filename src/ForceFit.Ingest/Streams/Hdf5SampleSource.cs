@@ -20,8 +20,9 @@ public sealed class Hdf5SampleSource : ISampleSource
     private readonly double[] _toSi = new double[4];
     private readonly string[] _names = new string[4];
     private readonly ulong _length;
-    private ulong _position;
-    private double _lastTime = double.NegativeInfinity;
+    private readonly SampleBlock[] _blocks = [new(Chunk), new(Chunk)];
+    private Task<SampleBlock?>? _pending;
+    private ulong _delivered;
 
     /// <summary>Opens the file read-only and checks the datasets.</summary>
     public Hdf5SampleSource(RunSettings run)
@@ -58,10 +59,13 @@ public sealed class Hdf5SampleSource : ISampleSource
                 throw new InputException(new Problem(_file, null, $"dataset '{_names[c]}' has {n} values, '{_names[0]}' has {_length}: the channels must have the same length"));
         }
         if (_length == 0) throw new InputException(new Problem(_file, null, "the datasets are empty"));
+        // A sample's "line" is its index: the block's first index plus its position in the block.
+        foreach (SampleBlock block in _blocks)
+            for (int i = 0; i < block.Capacity; i++) block.LineOffsets[i] = i;
     }
 
     /// <inheritdoc />
-    public long BytesRead => Length == 0 || _length == 0 ? 0 : (long)(Length * ((double)_position / _length));
+    public long BytesRead => Length == 0 || _length == 0 ? 0 : (long)(Length * ((double)_delivered / _length));
 
     /// <inheritdoc />
     public long Length { get; }
@@ -70,39 +74,67 @@ public sealed class Hdf5SampleSource : ISampleSource
     public IReadOnlyList<string> Warnings { get; } = [];
 
     /// <inheritdoc />
-    public bool Read(SampleBlock block)
+    public SampleBlock? Next()
     {
-        block.Count = 0;
-        if (_position >= _length) return false;
-        ulong count = Math.Min((ulong)Math.Min(block.Capacity, Chunk), _length - _position);
-        var selection = new HyperslabSelection(_position, count);
-        double[][] columns = new double[4][];
-        for (int c = 0; c < 4; c++) columns[c] = _datasets[c].Read<double[]>(fileSelection: selection);
-        for (int i = 0; i < (int)count; i++)
+        // Two blocks: the next one is read on a worker while the caller works on the one returned.
+        Task<SampleBlock?> pending = _pending ?? Task.Run(() => ReadBlock(_blocks[0], 0));
+        SampleBlock? block = pending.GetAwaiter().GetResult();
+        _pending = null;
+        if (block is null) return null;
+        _delivered = (ulong)block.LineBase + (ulong)block.Count;
+        SampleBlock spare = ReferenceEquals(block, _blocks[0]) ? _blocks[1] : _blocks[0];
+        ulong from = _delivered;
+        _pending = Task.Run(() => ReadBlock(spare, from));
+        return block;
+    }
+
+    [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
+    private SampleBlock? ReadBlock(SampleBlock block, ulong position)
+    {
+        if (position >= _length) return null;
+        int count = (int)Math.Min((ulong)Chunk, _length - position);
+        var file = new HyperslabSelection(position, (ulong)count);
+        var memory = new HyperslabSelection(0, (ulong)count);
+        double[][] columns = [block.Time, block.Piezo, block.Bias, block.Signal];
+        for (int c = 0; c < 4; c++)
         {
-            long index = (long)_position + i;
-            for (int c = 0; c < 4; c++)
+            _datasets[c].Read(columns[c], fileSelection: file, memorySelection: memory, memoryDims: [(ulong)block.Capacity]);
+            double[] x = columns[c];
+            double toSi = _toSi[c];
+            for (int i = 0; i < count; i++)
             {
-                if (!double.IsFinite(columns[c][i]))
-                    throw new InputException(new Problem(_file, null, $"dataset '{_names[c]}', index {index}: {columns[c][i]} is not a finite number"));
+                if (!double.IsFinite(x[i]))
+                    throw new InputException(new Problem(_file, null, $"dataset '{_names[c]}', index {(long)position + i}: {x[i]} is not a finite number"));
+                x[i] *= toSi;
             }
-            double t = columns[0][i] * _toSi[0];
-            if (!(t > _lastTime))
-                throw new InputException(new Problem(_file, null, $"dataset '{_names[0]}', index {index}: time does not increase"));
-            _lastTime = t;
-            block.Time[i] = t;
-            block.Piezo[i] = columns[1][i] * _toSi[1];
-            block.Bias[i] = columns[2][i] * _toSi[2];
-            block.Signal[i] = columns[3][i] * _toSi[3];
-            block.Lines[i] = index;
         }
-        block.Count = (int)count;
-        _position += count;
-        return true;
+        double[] t = block.Time;
+        // Time increases within the block and from the block before (its last time is known only to the caller's
+        // order, so the block reads the value at position - 1 itself).
+        double before = position == 0 ? double.NegativeInfinity : ReadTime(position - 1);
+        for (int i = 0; i < count; i++)
+        {
+            if (!(t[i] > before))
+                throw new InputException(new Problem(_file, null, $"dataset '{_names[0]}', index {(long)position + i}: time does not increase"));
+            before = t[i];
+        }
+        block.LineBase = (long)position;
+        block.Count = count;
+        return block;
+    }
+
+    private double ReadTime(ulong index)
+    {
+        double[] one = _datasets[0].Read<double[]>(fileSelection: new HyperslabSelection(index, 1));
+        return one[0] * _toSi[0];
     }
 
     /// <inheritdoc />
-    public void Dispose() => _handle.Dispose();
+    public void Dispose()
+    {
+        try { _pending?.Wait(); } catch (AggregateException) { }
+        _handle.Dispose();
+    }
 
     // Keeps the opened file and disposes it.
     private sealed class NativeFileHandle(NativeFile file) : IDisposable

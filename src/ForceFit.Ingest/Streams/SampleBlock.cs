@@ -1,6 +1,8 @@
 namespace ForceFit.Ingest.Streams;
 
-/// <summary>A block of samples in SI, reused from block to block (no allocation per sample).</summary>
+/// <summary>
+/// A block of samples in SI, owned by its source and reused: valid until the source's next <see cref="ISampleSource.Next"/>.
+/// </summary>
 public sealed class SampleBlock
 {
     /// <summary>Creates a block with room for <paramref name="capacity"/> samples.</summary>
@@ -10,30 +12,45 @@ public sealed class SampleBlock
         Piezo = new double[capacity];
         Bias = new double[capacity];
         Signal = new double[capacity];
-        Lines = new long[capacity];
+        LineOffsets = new int[capacity];
     }
 
     /// <summary>Time (s).</summary>
-    public double[] Time { get; }
+    public double[] Time { get; private set; }
     /// <summary>Recorded piezo reading (m).</summary>
-    public double[] Piezo { get; }
+    public double[] Piezo { get; private set; }
     /// <summary>Recorded bias (V).</summary>
-    public double[] Bias { get; }
+    public double[] Bias { get; private set; }
     /// <summary>Signal: frequency (Hz) or deflection (V, or a pure number).</summary>
-    public double[] Signal { get; }
-    /// <summary>The 1-based line of each sample (CSV) or its 0-based index (HDF5).</summary>
-    public long[] Lines { get; }
+    public double[] Signal { get; private set; }
+    /// <summary>Each sample's line (CSV) or index (HDF5) relative to <see cref="LineBase"/>.</summary>
+    public int[] LineOffsets { get; private set; }
+    /// <summary>The 1-based line (CSV) or 0-based index (HDF5) that offsets count from.</summary>
+    public long LineBase { get; set; }
     /// <summary>Samples in the block.</summary>
     public int Count { get; set; }
     /// <summary>Room in the block.</summary>
     public int Capacity => Time.Length;
+
+    /// <summary>The 1-based line (CSV) or 0-based index (HDF5) of sample <paramref name="i"/>.</summary>
+    public long LineOf(int i) => LineBase + LineOffsets[i];
+
+    /// <summary>Doubles the room, keeping the samples.</summary>
+    public void Grow()
+    {
+        int size = Math.Max(16, 2 * Capacity);
+        double[] t = Time, p = Piezo, v = Bias, s = Signal;
+        int[] l = LineOffsets;
+        Array.Resize(ref t, size); Array.Resize(ref p, size); Array.Resize(ref v, size); Array.Resize(ref s, size); Array.Resize(ref l, size);
+        (Time, Piezo, Bias, Signal, LineOffsets) = (t, p, v, s, l);
+    }
 }
 
-/// <summary>A source of samples for one run: CSV/TSV or HDF5.</summary>
+/// <summary>A source of samples for one run: CSV/TSV or HDF5. Time is checked to increase across the whole run.</summary>
 public interface ISampleSource : IDisposable
 {
-    /// <summary>Fills the block; returns false when there are no more samples.</summary>
-    bool Read(SampleBlock block);
+    /// <summary>The next block of samples, or null when there are no more; the block is reused by the next call.</summary>
+    SampleBlock? Next();
 
     /// <summary>Bytes of the input consumed so far (for progress).</summary>
     long BytesRead { get; }

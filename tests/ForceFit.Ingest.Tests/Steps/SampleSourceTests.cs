@@ -23,9 +23,8 @@ public sealed class SampleSourceTests : TemporaryFolderTest
     private static List<double[]> ReadAll(RunSettings run, out IReadOnlyList<string> warnings)
     {
         using ISampleSource source = SampleSources.Open(run);
-        var block = new SampleBlock(7);
         var rows = new List<double[]>();
-        while (source.Read(block))
+        while (source.Next() is { } block)
             for (int i = 0; i < block.Count; i++) rows.Add([block.Time[i], block.Piezo[i], block.Bias[i], block.Signal[i]]);
         warnings = source.Warnings;
         return rows;
