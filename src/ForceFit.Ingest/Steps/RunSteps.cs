@@ -122,7 +122,7 @@ public static class RunSteps
 
         /// <summary>Clips glitches, records residuals for the noise model, and returns mean, naive sigma, n and clipped.</summary>
         [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
-        protected (double Mean, double Naive, int N, int Clipped) Summarise(ReadOnlySpan<double> values, Func<int, double>? trend = null)
+        protected (double Mean, double Naive, int N, int Clipped) Summarise(ReadOnlySpan<double> values, Func<int, double>? trend = null, bool feedNoise = true)
         {
             int n = values.Length;
             if (n == 0) return (double.NaN, double.NaN, 0, 0);
@@ -168,7 +168,7 @@ public static class RunSteps
                 keptResidual[i] = r;
                 ss += r * r;
             }
-            _noise.Add(keptResidual[..kept], kept);
+            if (feedNoise) _noise.Add(keptResidual[..kept], kept);
             return (mean, kept > 1 ? Math.Sqrt(ss / (kept - 1) / kept) : double.NaN, kept, clipped);
         }
     }
@@ -288,7 +288,10 @@ public static class RunSteps
             _biasDetector = new StepDetector(thresholds with { Piezo = double.PositiveInfinity });
             _bin = run.BinWidth?.Value ?? throw new InvalidOperationException("bin_width is required for distance-ramps");
             _reversal = Math.Max(20 * thresholds.PiezoNoise, 2 * _bin);
+            _noiseFromReferences = run.Instrument.ReferenceBeyond is not null;
         }
+
+        private readonly bool _noiseFromReferences;
 
         public override void Add(SampleBlock block)
         {
@@ -333,6 +336,54 @@ public static class RunSteps
             if (direction != 0) BinSweep(sweepStart, count, direction);
         }
 
+        // A gap bin holds fewer samples than the noise's correlation time (a 2 nm bin at 40 nm/s is 0.05 s), so the
+        // correlation cannot be seen inside bins. The noise model is taken instead from the sweep's consecutive samples
+        // beyond reference_beyond (the hold there and the far part of the ramp), where the signal is flat: residuals
+        // about their mean, as for steps. Without a reference region the bins themselves are used.
+        private void ReferenceNoise(int from, int to)
+        {
+            int start = -1;
+            for (int i = from; i <= to; i++)
+            {
+                bool reference = i < to && IsReference(_segment[i].P);
+                if (reference && start < 0) start = i;
+                if (reference || start < 0) continue;
+                // In blocks of at most 512 samples (about a step's length), so that the slow walk of the free signal,
+                // which the free-signal track carries, does not enter the short-time noise.
+                int blocks = (i - start + 511) / 512;
+                for (int b = 0; b < blocks; b++)
+                    ReferenceBlock(start + (i - start) * b / blocks, start + (i - start) * (b + 1) / blocks);
+                start = -1;
+            }
+        }
+
+        // Residuals of samples [start, end) about their mean, with the small slope of the signal against the reading
+        // there (the far tail of the forces) removed, into the noise model.
+        private void ReferenceBlock(int start, int end)
+        {
+            int n = end - start;
+            if (n < 3) return;
+            double meanP = 0, meanS = 0;
+            for (int k = start; k < end; k++)
+            {
+                meanP += _segment[k].P;
+                meanS += _segment[k].S;
+            }
+            meanP /= n;
+            meanS /= n;
+            double sxx = 0, sxy = 0;
+            for (int k = start; k < end; k++)
+            {
+                double dx = _segment[k].P - meanP;
+                sxx += dx * dx;
+                sxy += dx * (_segment[k].S - meanS);
+            }
+            double slope = sxx > 0 ? sxy / sxx : 0;
+            double[] values = new double[n];
+            for (int k = start; k < end; k++) values[k - start] = _segment[k].S;
+            Summarise(values, k => slope * (_segment[start + k].P - meanP));
+        }
+
         private int LastIndexOfExtreme(int from, int to, int direction)
         {
             int best = from;
@@ -342,6 +393,7 @@ public static class RunSteps
 
         private void BinSweep(int from, int to, int direction)
         {
+            if (_noiseFromReferences) ReferenceNoise(from, to);
             // Gap decreases toward the plate: with "away" a decreasing reading is an approach.
             bool towardPlate = (Run.Piezo.Direction == PiezoDirection.Away) == (direction < 0);
             SegmentKind kind = towardPlate ? SegmentKind.Approach : SegmentKind.Retract;
@@ -367,7 +419,7 @@ public static class RunSteps
                 }
                 double slope = sxx > 0 ? sxy / sxx : 0;
                 double[] values = idx.Select(i => _segment[i].S).ToArray();
-                (double mean, double naive, int n, int clipped) = Summarise(values, k => slope * (_segment[idx[k]].P - meanP));
+                (double mean, double naive, int n, int clipped) = Summarise(values, k => slope * (_segment[idx[k]].P - meanP), feedNoise: !_noiseFromReferences);
                 Output.Add(new Raw(IsReference(meanP) ? SegmentKind.Reference : kind, _segment[idx[0]].T, _segment[idx[^1]].T, meanP,
                     idx.Average(i => _segment[i].V), mean, naive, n, clipped, _segment[idx[0]].Line, idx.Average(i => _segment[i].T)));
             }
