@@ -348,7 +348,7 @@ public static class RunSteps
                 bool reference = i < to && IsReference(_segment[i].P);
                 if (reference && start < 0) start = i;
                 if (reference || start < 0) continue;
-                // In blocks of at most 512 samples (about a step's length), so that the slow walk of the free signal,
+                // In blocks of at most 512 samples (about a step), so that the slow walk of the free signal,
                 // which the free-signal track carries, does not enter the short-time noise.
                 int blocks = (i - start + 511) / 512;
                 for (int b = 0; b < blocks; b++)

@@ -156,5 +156,11 @@ public sealed class SampleSourceTests : TemporaryFolderTest
         Assert.That(retract.Length, Is.EqualTo(expectedBins).Within(0.05 * expectedBins));
         Assert.That(r.Segments.Select(s => Math.Round(s.Bias, 3)).Distinct().Count(), Is.EqualTo(3));
         Assert.That(approach.Zip(approach.Skip(1)).Count(p => p.First.Bias == p.Second.Bias && p.Second.Piezo > p.First.Piezo), Is.Zero, "approach bins run toward the plate");
+        // The bins (10 samples) are shorter than the noise's correlation: the noise model comes from the reference
+        // region. Injected AR(1) noise with lag-1 correlation 0.9 has integrated time (1 + 0.9)/(1 − 0.9) = 19 samples.
+        // Inside the bins the estimate came out 0.2. From the reference region it is 25-35% low (12.7 here): the
+        // slope removed in each 512-sample block takes variance the mean-only correction does not restore; longer
+        // blocks let the far forces' curvature and the free signal's walk in (tau 90-160 with 2048). An open problem.
+        Assert.That(r.Noise.IntegratedTime, Is.InRange(0.6 * 19, 1.3 * 19));
     }
 }
