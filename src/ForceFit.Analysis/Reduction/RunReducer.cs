@@ -422,8 +422,8 @@ public static class RunReducer
                 if (frequency)
                 {
                     a[j] = a0;
-                    // <F'> = F' + (A^2/8) F''' (physics.md): remove r = (A^2/8) F'''/F' of the smooth curve.
-                    f[j] = cj / (1 + c.Amplitude * c.Amplitude / 8 * smooth.SecondOverValue(a0));
+                    // <F'> = F' + (A^2/8) F''' (physics.md), or the exact average where A >= a/10: divided out.
+                    f[j] = cj / AmplitudeRatio(smooth, a0, c.Amplitude);
                     continue;
                 }
                 double at = a0;
@@ -444,7 +444,7 @@ public static class RunReducer
         CurveShape newShape = CurveShape.Fit(separation, value, rawSigma);
         (separation, value) = Outputs(theta, newShape);
         var slope = Enumerable.Range(0, np).Select(j => value[j] * newShape.LogSlope(separation[j])).ToArray();
-        var correction = frequency ? separation.Select(a => c.Amplitude * c.Amplitude / 8 * newShape.SecondOverValue(a)).ToArray() : new double[np];
+        var correction = frequency ? separation.Select(a => AmplitudeRatio(newShape, a, c.Amplitude) - 1).ToArray() : new double[np];
 
         // Outputs [F_eff_j, z0, K, m, s, v, w] as functions of theta, differentiated numerically; F_eff is the value
         // at a fixed separation (F − slope da).
@@ -506,6 +506,17 @@ public static class RunReducer
         };
         return new State(calibration, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M);
     }
+
+    /// <summary>
+    /// &lt;F'&gt;/F' of the smooth curve at mean gap a for amplitude A: 1 + (A^2/8) F'''/F' when the amplitude is small
+    /// against the gap, else (A >= a/10) the exact oscillation average &lt;F'&gt; = (2/pi) Integral F'(a + A u) sqrt(1 − u^2) du
+    /// (F. J. Giessibl, Phys. Rev. B 56, 16010 (1997); the relation the Sader–Jarvis inversion inverts, J. E. Sader and
+    /// S. P. Jarvis, Appl. Phys. Lett. 84, 1801 (2004)). The force curve is the smooth fit of the run's own points, and
+    /// the division by this ratio is iterated with it, which inverts the average for that curve.
+    /// </summary>
+    private static double AmplitudeRatio(CurveShape smooth, double a, double amplitude) => amplitude >= a / 10
+        ? ForceFit.Theory.Geometry.AmplitudeAverage.Gradient(smooth.Value, a, amplitude) / smooth.Value(a)
+        : 1 + amplitude * amplitude / 8 * smooth.SecondOverValue(a);
 
     // Start of the calibration from the near-contact laws (physics.md): the curvature is c = pi eps0 R / (q a^power)
     // with power 2 for the gradient (q = k) and 1 for the force (q = k m), so c^(-1/power) is linear in the reading.
