@@ -10,6 +10,7 @@ using ForceFit.Theory.Permittivity;
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --simulate   (10 million samples as CSV)
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --ingest [night-folder]   (CSV and HDF5 to steps)
 //              dotnet run -c Release --project bench/ForceFit.Bench -- --compare [night-folder]  (1000 draws, 2 theories, 60 separations)
+//              dotnet run -c Release --project bench/ForceFit.Bench -- --night   (10 runs x 1 million samples, figures excluded)
 if (args.Contains("--ingest"))
 {
     ForceFit.Bench.IngestBenchmark.Run(args.SkipWhile(a => a != "--ingest").Skip(1).FirstOrDefault());
@@ -18,6 +19,11 @@ if (args.Contains("--ingest"))
 if (args.Contains("--compare"))
 {
     ForceFit.Bench.ComparisonBenchmark.Run(args.SkipWhile(a => a != "--compare").Skip(1).FirstOrDefault());
+    return;
+}
+if (args.Contains("--night"))
+{
+    ForceFit.Bench.NightBenchmark.Run();
     return;
 }
 if (args.Contains("--simulate"))
