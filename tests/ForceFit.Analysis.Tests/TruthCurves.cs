@@ -60,3 +60,42 @@ internal static class Pulls
         }
     }
 }
+
+/// <summary>One simulated night reduced without the Monte Carlo comparison, with the calibration's pulls against truth.</summary>
+/// <param name="Truth">The simulator's truth.</param>
+/// <param name="Night">The night's settings as read back.</param>
+/// <param name="Reduction">The reduction.</param>
+internal sealed record SimulatedNight(NightTruth Truth, NightSettings Night, NightReduction Reduction)
+{
+    /// <summary>Simulates the scenario with the seed into the folder and reduces the night.</summary>
+    public static SimulatedNight Reduce(string folder, Scenario scenario, ulong seed)
+    {
+        NightTruth truth = NightSimulator.Simulate(new SimulationRequest(folder, scenario, seed, false, SimulationRequest.DefaultColumns(scenario.Mode, false)));
+        NightSettings night = RunFileReader.ReadNight(folder);
+        return new SimulatedNight(truth, night, NightPipeline.Reduce(night, new ComparisonOptions(0, 1)));
+    }
+
+    /// <summary>(z0 − truth)/sigma of the first run; z0 is quoted at the mean time of its steps and the truth drifts linearly.</summary>
+    public double GapOffsetPull
+    {
+        get
+        {
+            RunTruth t = Truth.Runs[0].Run;
+            RunCalibration c = Reduction.Runs[0].Calibration;
+            return (c.GapOffset.Value - (t.GapOffset + t.GapDriftRate * c.ReferenceTime)) / c.GapOffset.Sigma;
+        }
+    }
+
+    /// <summary>(k − truth)/sigma of the first run.</summary>
+    public double SpringConstantPull
+    {
+        get
+        {
+            RunCalibration c = Reduction.Runs[0].Calibration;
+            return (c.SpringConstant.Value - Truth.Runs[0].Run.SpringConstant) / c.SpringConstant.Sigma;
+        }
+    }
+
+    /// <summary>The p-value of the night's result against the true curve (<see cref="TruthCurves.PValueAgainstTruth"/>).</summary>
+    public double CurvePValue => TruthCurves.PValueAgainstTruth(Reduction.Combined, Night.Runs[0].Theory, Truth);
+}

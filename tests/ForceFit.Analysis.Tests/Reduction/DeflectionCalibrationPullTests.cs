@@ -26,17 +26,10 @@ public sealed class DeflectionCalibrationPullTests : TemporaryFolderTest
         var pulls = new (double Z0, double K, double M, double Chi2PerDof, double CurveP)[Seeds];
         Parallel.For(0, Seeds, new ParallelOptions { MaxDegreeOfParallelism = 2 }, index =>
         {
-            ulong seed = 6000 + (ulong)index;
-            string folder = Path.Combine(Folder, "n" + seed);
-            NightTruth truth = NightSimulator.Simulate(new SimulationRequest(folder, scenario, seed, false, SimulationRequest.DefaultColumns(scenario.Mode, false)));
-            NightSettings night = RunFileReader.ReadNight(folder);
-            NightReduction reduction = NightPipeline.Reduce(night, new ComparisonOptions(0, 1));
-            RunTruth t = truth.Runs[0].Run;
-            RunCalibration c = reduction.Runs[0].Calibration;
-            double z0True = t.GapOffset + t.GapDriftRate * c.ReferenceTime;
-            pulls[index] = ((c.GapOffset.Value - z0True) / c.GapOffset.Sigma, (c.SpringConstant.Value - t.SpringConstant) / c.SpringConstant.Sigma,
-                (c.Sensitivity!.Value - t.DeflectionSensitivity) / c.Sensitivity.Sigma, c.ChiSquare / c.DegreesOfFreedom,
-                TruthCurves.PValueAgainstTruth(reduction.Combined, night.Runs[0].Theory, truth));
+            var n = SimulatedNight.Reduce(Path.Combine(Folder, "n" + index), scenario, 6000 + (ulong)index);
+            RunCalibration c = n.Reduction.Runs[0].Calibration;
+            pulls[index] = (n.GapOffsetPull, n.SpringConstantPull, (c.Sensitivity!.Value - n.Truth.Runs[0].Run.DeflectionSensitivity) / c.Sensitivity.Sigma,
+                c.ChiSquare / c.DegreesOfFreedom, n.CurvePValue);
         });
         using var scope = Assert.EnterMultipleScope();
         Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("m", pulls.Select(p => p.M)));

@@ -1,6 +1,3 @@
-using ForceFit.Analysis.Comparison;
-using ForceFit.Analysis.Reduction;
-using ForceFit.Ingest.RunFiles;
 using ForceFit.Simulation;
 using ForceFit.Tests.Shared;
 
@@ -27,16 +24,8 @@ public sealed class LargeAmplitudeTests : TemporaryFolderTest
         var results = new (double Z0, double K, double P)[Seeds];
         Parallel.For(0, Seeds, new ParallelOptions { MaxDegreeOfParallelism = 2 }, index =>
         {
-            ulong seed = 7100 + (ulong)index;
-            string folder = Path.Combine(Folder, "n" + seed);
-            NightTruth truth = NightSimulator.Simulate(new SimulationRequest(folder, scenario, seed, false, SimulationRequest.DefaultColumns(scenario.Mode, false)));
-            NightSettings night = RunFileReader.ReadNight(folder);
-            NightReduction reduction = NightPipeline.Reduce(night, new ComparisonOptions(0, 1));
-            RunTruth t = truth.Runs[0].Run;
-            RunCalibration c = reduction.Runs[0].Calibration;
-            double z0True = t.GapOffset + t.GapDriftRate * c.ReferenceTime;
-            results[index] = ((c.GapOffset.Value - z0True) / c.GapOffset.Sigma, (c.SpringConstant.Value - t.SpringConstant) / c.SpringConstant.Sigma,
-                TruthCurves.PValueAgainstTruth(reduction.Combined, night.Runs[0].Theory, truth));
+            var n = SimulatedNight.Reduce(Path.Combine(Folder, "n" + index), scenario, 7100 + (ulong)index);
+            results[index] = (n.GapOffsetPull, n.SpringConstantPull, n.CurvePValue);
         });
         foreach (var r in results) TestContext.Out.WriteLine($"z0 pull {r.Z0:F2}, k pull {r.K:F2}, p against the true curve {r.P:G3}");
         Assert.That(results.Count(r => r.P > 0.01), Is.GreaterThanOrEqualTo(Seeds - 1));
