@@ -124,6 +124,9 @@ public static class RunReducer
     {
         /// <summary>The reference steps' gaps at the final calibration (m).</summary>
         public double[] ReferenceGaps { get; init; } = [];
+
+        /// <summary>The calibration fit's parameters (the start of a systematic variation).</summary>
+        public double[] Parameters { get; init; } = [];
     }
 
     /// <summary>A step ready for fitting.</summary>
@@ -185,7 +188,7 @@ public static class RunReducer
         int passes = start is null ? OuterIterations : c.ReferenceCasimirScale != 1 ? 2 : 1;
         for (int outer = 0; outer < passes; outer++)
         {
-            state = GlobalPass(steps, groups, track, c, electrostatics, sign, shape, frequency);
+            state = GlobalPass(steps, groups, track, c, electrostatics, sign, shape, frequency, outer == 0 ? start?.Parameters : state.Parameters);
             shape = state.Shape;
             if (givenFree is null && outer < passes - 1)
                 track = FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
@@ -204,10 +207,10 @@ public static class RunReducer
     /// <summary>The outcome of one pass.</summary>
     private sealed record State(RunCalibration Calibration, PositionFit[] Positions, double[] Separation, double[] Value, double[] Slope,
         double[] PointTime, double[,] RandomCovariance, SystematicSource CalibrationSource, double[,] ResidualPotentialCovariance, double[] AmplitudeCorrection,
-        CurveShape Shape, double GapOffset, double Kappa, double Sensitivity)
+        CurveShape Shape, double GapOffset, double Kappa, double Sensitivity, double[] Parameters)
     {
         public Core ToCore(FreeSignalTrack track, IReadOnlyList<string> warnings) => new(Calibration, Positions, Separation, Value, Slope, PointTime,
-            RandomCovariance, CalibrationSource, track, ResidualPotentialCovariance, AmplitudeCorrection, Shape, warnings);
+            RandomCovariance, CalibrationSource, track, ResidualPotentialCovariance, AmplitudeCorrection, Shape, warnings) { Parameters = Parameters };
     }
 
     // Groups the steps by piezo reading (readings closer than the step threshold are one position) and keeps the
@@ -292,7 +295,7 @@ public static class RunReducer
     /// A slow gap drift v and V0 drift w are fitted because at this precision both are visible within one position.
     /// </summary>
     private static State GlobalPass(StepPoint[] steps, int[][] groups, FreeSignalTrack track, RunConstants c, ElectrostaticTable e, int sign,
-        CurveShape? shape, bool frequency)
+        CurveShape? shape, bool frequency, double[]? from)
     {
         int n = steps.Length, np = groups.Length;
         var obs = new double[n];
@@ -404,8 +407,12 @@ public static class RunReducer
             return total;
         }
         var options = new FitOptions(1e-10, 1e-15, 500);
+        if (from is not null) start = (double[])from.Clone();
         FitResult fit = LevenbergMarquardt.FitCorrelated(Vector, y, Covariance(start), start, options);
-        fit = LevenbergMarquardt.FitCorrelated(Vector, y, Covariance(fit.Parameters), fit.Parameters, options);
+        // From the plain start, refitted with the covariance at the solution. A systematic variation (or a later pass)
+        // starts at the solution before it, takes the covariance there and fits once: the covariance moves only at
+        // second order in the variation.
+        if (from is null) fit = LevenbergMarquardt.FitCorrelated(Vector, y, Covariance(fit.Parameters), fit.Parameters, options);
         double[] theta = fit.Parameters;
         double[,] thetaCov = fit.Covariance;
 
@@ -504,7 +511,7 @@ public static class RunReducer
             ResidualPotentialDrift = Stat(cal.W, joint[np + 4, np + 4]),
             ReferenceTime = tMid,
         };
-        return new State(calibration, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M);
+        return new State(calibration, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M, theta);
     }
 
     /// <summary>

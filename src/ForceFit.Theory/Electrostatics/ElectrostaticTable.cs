@@ -18,9 +18,13 @@ public sealed class ElectrostaticTable
     private ElectrostaticTable(double radius)
     {
         Radius = radius;
-        _force = new HermiteTable(Low, High, 3000, a => { var e = SpherePlateElectrostatics.At(a, radius); return (e.Force, e.Gradient); });
-        _gradient = new HermiteTable(Low, High, 3000, a => { var e = SpherePlateElectrostatics.At(a, radius); return (e.Gradient, e.SecondDerivative); });
-        _curvature = new HermiteTable(Low, High, 3000, a => { var e = SpherePlateElectrostatics.At(a, radius); return (e.SecondDerivative, e.ThirdDerivative); });
+        // One evaluation of the series per gap gives all three tables (force, gradient, second derivative).
+        HermiteTable[] tables = HermiteTable.Several(Low, High, 3000, 3, a =>
+        {
+            var e = SpherePlateElectrostatics.At(a, radius);
+            return [(e.Force, e.Gradient), (e.Gradient, e.SecondDerivative), (e.SecondDerivative, e.ThirdDerivative)];
+        });
+        (_force, _gradient, _curvature) = (tables[0], tables[1], tables[2]);
     }
 
     /// <summary>The sphere radius (m).</summary>

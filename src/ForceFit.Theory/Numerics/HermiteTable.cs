@@ -9,6 +9,24 @@ public sealed class HermiteTable
     private readonly double _logLow, _step;
     private readonly double[] _x, _f, _df;
 
+    /// <summary>
+    /// Several tables on one grid from one evaluation per node: <paramref name="function"/> gives, at each of the
+    /// <paramref name="nodes"/> log-spaced gaps, the values and derivatives of <paramref name="count"/> functions
+    /// (for an expensive function whose one evaluation yields them all).
+    /// </summary>
+    public static HermiteTable[] Several(double low, double high, int nodes, int count, Func<double, (double F, double Df)[]> function)
+    {
+        var results = new (double F, double Df)[nodes][];
+        var grid = new HermiteTable(low, high, nodes, x => (0, 0));
+        Parallel.For(0, nodes, i => results[i] = function(grid._x[i]));
+        return Enumerable.Range(0, count).Select(c => new HermiteTable(grid._logLow, grid._step, grid._x, results.Select(r => r[c].F).ToArray(), results.Select(r => r[c].Df).ToArray())).ToArray();
+    }
+
+    private HermiteTable(double logLow, double step, double[] x, double[] f, double[] df)
+    {
+        (_logLow, _step, _x, _f, _df) = (logLow, step, x, f, df);
+    }
+
     /// <summary>Tabulates f and its derivative over [low, high] on <paramref name="nodes"/> log-spaced gaps.</summary>
     public HermiteTable(double low, double high, int nodes, Func<double, (double F, double Df)> function)
     {
