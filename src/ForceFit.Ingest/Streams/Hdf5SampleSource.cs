@@ -22,6 +22,7 @@ public sealed class Hdf5SampleSource : ISampleSource
     private readonly ulong _length;
     private readonly SampleBlock[] _blocks = [new(Chunk), new(Chunk)];
     private Task<SampleBlock?>? _pending;
+    private bool _finished;
     private ulong _delivered;
 
     /// <summary>Opens the file read-only and checks the datasets.</summary>
@@ -77,10 +78,15 @@ public sealed class Hdf5SampleSource : ISampleSource
     public SampleBlock? Next()
     {
         // Two blocks: the next one is read on a worker while the caller works on the one returned.
+        if (_finished) return null;
         Task<SampleBlock?> pending = _pending ?? Task.Run(() => ReadBlock(_blocks[0], 0));
-        SampleBlock? block = pending.GetAwaiter().GetResult();
         _pending = null;
-        if (block is null) return null;
+        SampleBlock? block = pending.GetAwaiter().GetResult();
+        if (block is null)
+        {
+            _finished = true;
+            return null;
+        }
         _delivered = (ulong)block.LineBase + (ulong)block.Count;
         SampleBlock spare = ReferenceEquals(block, _blocks[0]) ? _blocks[1] : _blocks[0];
         ulong from = _delivered;
