@@ -388,7 +388,7 @@ internal sealed class RowParser
     /// <summary>
     /// A field of <paramref name="length"/> bytes holding [-]digits[.digits] with at most 8 digits on each side of
     /// the point: the point is found by a vector compare, both digit groups are combined eight at a time. Longer
-    /// numbers go through <see cref="Number"/>. NaN when the field is not such a number.
+    /// numbers go through <see cref="FastNumber"/>. NaN when the field is not such a number.
     /// </summary>
     [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveInlining)]
     private static unsafe double Field(byte* s, int length)
@@ -415,10 +415,11 @@ internal sealed class RowParser
         return sign * ((long)mantissa / PowersOfTen[fraction]);
     }
 
-    // Fields the vector path leaves: long numbers, one-byte and empty fields.
+    // Fields the vector path leaves (long numbers, one-byte and empty fields): the cell parser the careful path uses,
+    // NaN (the careful path then names the problem) unless it reads a finite number.
     [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.NoInlining)]
     private static unsafe double LongField(byte* s, int length) =>
-        length > 0 && Number(s, out double value) == s + length ? value : double.NaN;
+        FastNumber.TryParse(new ReadOnlySpan<byte>(s, length), out double value) && double.IsFinite(value) ? value : double.NaN;
 
     // What Eight returns when a byte is not a digit: all bits set, so that it survives an OR with a valid value (< 10^8).
     private const ulong NotDigits = ulong.MaxValue;
@@ -435,44 +436,6 @@ internal sealed class RowParser
         ulong d = ((x - 0x3030303030303030UL) & keep) << (64 - 8 * n);
         d = d * 10 + (d >> 8);
         return (((d & 0x000000FF000000FFUL) * (100 + (1000000UL << 32))) + (((d >> 16) & 0x000000FF000000FFUL) * (1 + (10000UL << 32)))) >> 32;
-    }
-
-    /// <summary>A plain decimal number at s ("-12.345", "7", ".5"); returns where it ends, or null for anything else.</summary>
-    private static unsafe byte* Number(byte* s, out double value)
-    {
-        value = 0;
-        bool negative = *s == (byte)'-';
-        if (negative) s++;
-        ulong mantissa = 0;
-        int digits = 0, point = -1;
-        while (true)
-        {
-            // Eight bytes at a time; a byte is a digit when its high nibble is 3 before and after adding 6.
-            ulong x = System.Runtime.CompilerServices.Unsafe.ReadUnaligned<ulong>(s);
-            ulong bad = ((x & 0xF0F0F0F0F0F0F0F0UL) ^ 0x3030303030303030UL) | (((x + 0x0606060606060606UL) & 0xF0F0F0F0F0F0F0F0UL) ^ 0x3030303030303030UL);
-            int n = System.Numerics.BitOperations.TrailingZeroCount(bad) >> 3; // 8 when all eight are digits
-            if (n > 0)
-            {
-                // The n digits moved to the top bytes (leading zero digits below), combined two, four, eight at a time.
-                ulong d = (x - 0x3030303030303030UL) << (8 * (8 - n));
-                d = d * 10 + (d >> 8);
-                d = (((d & 0x000000FF000000FFUL) * (100 + (1000000UL << 32))) + (((d >> 16) & 0x000000FF000000FFUL) * (1 + (10000UL << 32)))) >> 32;
-                mantissa = mantissa * IntegerPowers[n] + (uint)d;
-                digits += n;
-                s += n;
-                if (digits > 19) return null;
-                if (n == 8) continue;
-            }
-            if (*s != (byte)'.' || point >= 0) break;
-            point = digits;
-            s++;
-        }
-        int fraction = point < 0 ? 0 : digits - point;
-        if (digits == 0 || fraction > 22 || mantissa > 1UL << 53) return null;
-        // (double)(long) converts in one instruction; the mantissa is below 2^53.
-        double v = fraction == 0 ? (long)mantissa : (long)mantissa / PowersOfTen[fraction];
-        value = negative ? -v : v;
-        return s;
     }
 }
 
