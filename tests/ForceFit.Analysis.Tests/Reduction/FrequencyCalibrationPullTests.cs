@@ -1,6 +1,4 @@
 using ForceFit.Analysis.Reduction;
-using ForceFit.Ingest.RunFiles;
-using ForceFit.Ingest.Steps;
 using ForceFit.Simulation;
 using ForceFit.Tests.Shared;
 
@@ -24,23 +22,17 @@ public sealed class FrequencyCalibrationPullTests : TemporaryFolderTest
         var pulls = new (double Z0, double K, double V0, double Drift, double PValue)[Seeds];
         Parallel.For(0, Seeds, new ParallelOptions { MaxDegreeOfParallelism = 2 }, index =>
         {
-            ulong seed = 5000 + (ulong)index;
-            string night = Path.Combine(Folder, "n" + seed);
-            NightTruth truth = NightSimulator.Simulate(new SimulationRequest(night, scenario, seed, false, SimulationRequest.DefaultColumns(scenario.Mode, false)));
-            RunSettings run = RunFileReader.ReadNight(night).Runs.Single();
-            RunResult result = RunReducer.Reduce(RunSteps.Read(run));
-            RunTruth t = truth.Runs[0].Run;
+            var n = SimulatedNight.Reduce(Path.Combine(Folder, "n" + index), scenario, 5000 + (ulong)index);
+            RunResult result = n.Reduction.Runs[0];
+            RunTruth t = n.Truth.Runs[0].Run;
             RunCalibration c = result.Calibration;
-            // z0 is quoted at the mean time of the run's steps; the truth drifts linearly from its t = 0 value.
-            double z0True = t.GapOffset + t.GapDriftRate * c.ReferenceTime;
             // V0 at the nearest position, at that position's mean time and true gap (RunGenerator.ResidualPotential).
             var (v0, v0Sigma, _, _, _) = NightPipeline.ResidualPotential(result);
             PositionFit nearest = result.Positions.MinBy(p => p.Separation)!;
-            var nearestSteps = truth.Runs[0].Steps.Where(s => !s.IsReference && Math.Abs(s.Piezo - nearest.Piezo) < 1e-9).ToArray();
+            var nearestSteps = n.Truth.Runs[0].Steps.Where(s => !s.IsReference && Math.Abs(s.Piezo - nearest.Piezo) < 1e-9).ToArray();
             double gap = nearestSteps.Average(s => s.MeanGap);
             double v0True = t.ResidualPotential + t.ResidualPotentialGapSlope * (gap - t.ReferenceGapForV0) + t.ResidualPotentialTimeSlope * nearest.Time;
-            pulls[index] = ((c.GapOffset.Value - z0True) / c.GapOffset.Sigma, (c.SpringConstant.Value - t.SpringConstant) / c.SpringConstant.Sigma,
-                (v0 - v0True) / v0Sigma, (c.GapDrift!.Value - t.GapDriftRate) / c.GapDrift.Sigma, c.PValue);
+            pulls[index] = (n.GapOffsetPull, n.SpringConstantPull, (v0 - v0True) / v0Sigma, (c.GapDrift!.Value - t.GapDriftRate) / c.GapDrift.Sigma, c.PValue);
         });
         using var scope = Assert.EnterMultipleScope();
         Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("V0", pulls.Select(p => p.V0)), ("gap drift", pulls.Select(p => p.Drift)));
