@@ -75,6 +75,18 @@ internal sealed record SimulatedNight(NightTruth Truth, NightSettings Night, Nig
         return new SimulatedNight(truth, night, NightPipeline.Reduce(night, new ComparisonOptions(0, 1)));
     }
 
+    /// <summary>
+    /// Nights with seeds firstSeed, firstSeed + 1, ... simulated and reduced two at a time (one per core), each reduced
+    /// to what <paramref name="measure"/> takes from it; results in seed order.
+    /// </summary>
+    public static T[] ReduceEach<T>(string folder, Scenario scenario, ulong firstSeed, int count, Func<SimulatedNight, T> measure)
+    {
+        var results = new T[count];
+        Parallel.For(0, count, new ParallelOptions { MaxDegreeOfParallelism = 2 }, index =>
+            results[index] = measure(Reduce(Path.Combine(folder, "n" + index), scenario, firstSeed + (ulong)index)));
+        return results;
+    }
+
     /// <summary>(z0 − truth)/sigma of the first run; z0 is quoted at the mean time of its steps and the truth drifts linearly.</summary>
     public double GapOffsetPull
     {

@@ -23,12 +23,10 @@ public sealed class DeflectionCalibrationPullTests : TemporaryFolderTest
     public void Pulls_of_z0_k_and_m_have_unit_rms_over_twenty_deflection_nights()
     {
         var scenario = new Scenario { Mode = SimulatedMode.Deflection, Protocol = SimulatedProtocol.VoltageSteps, Runs = 1 };
-        var pulls = new (double Z0, double K, double M, double Chi2PerDof, double CurveP)[Seeds];
-        Parallel.For(0, Seeds, new ParallelOptions { MaxDegreeOfParallelism = 2 }, index =>
+        var pulls = SimulatedNight.ReduceEach<(double Z0, double K, double M, double Chi2PerDof, double CurveP)>(Folder, scenario, 6000, Seeds, n =>
         {
-            var n = SimulatedNight.Reduce(Path.Combine(Folder, "n" + index), scenario, 6000 + (ulong)index);
             RunCalibration c = n.Reduction.Runs[0].Calibration;
-            pulls[index] = (n.GapOffsetPull, n.SpringConstantPull, (c.Sensitivity!.Value - n.Truth.Runs[0].Run.DeflectionSensitivity) / c.Sensitivity.Sigma,
+            return (n.GapOffsetPull, n.SpringConstantPull, (c.Sensitivity!.Value - n.Truth.Runs[0].Run.DeflectionSensitivity) / c.Sensitivity.Sigma,
                 c.ChiSquare / c.DegreesOfFreedom, n.CurvePValue);
         });
         using var scope = Assert.EnterMultipleScope();

@@ -19,10 +19,8 @@ public sealed class FrequencyCalibrationPullTests : TemporaryFolderTest
     public void Pulls_of_z0_k_and_V0_have_unit_rms_over_thirty_simulated_nights()
     {
         var scenario = new Scenario { Mode = SimulatedMode.FrequencyShift, Protocol = SimulatedProtocol.VoltageSteps, Runs = 1 };
-        var pulls = new (double Z0, double K, double V0, double Drift, double PValue)[Seeds];
-        Parallel.For(0, Seeds, new ParallelOptions { MaxDegreeOfParallelism = 2 }, index =>
+        var pulls = SimulatedNight.ReduceEach<(double Z0, double K, double V0, double Drift, double PValue)>(Folder, scenario, 5000, Seeds, n =>
         {
-            var n = SimulatedNight.Reduce(Path.Combine(Folder, "n" + index), scenario, 5000 + (ulong)index);
             RunResult result = n.Reduction.Runs[0];
             RunTruth t = n.Truth.Runs[0].Run;
             RunCalibration c = result.Calibration;
@@ -32,7 +30,7 @@ public sealed class FrequencyCalibrationPullTests : TemporaryFolderTest
             var nearestSteps = n.Truth.Runs[0].Steps.Where(s => !s.IsReference && Math.Abs(s.Piezo - nearest.Piezo) < 1e-9).ToArray();
             double gap = nearestSteps.Average(s => s.MeanGap);
             double v0True = t.ResidualPotential + t.ResidualPotentialGapSlope * (gap - t.ReferenceGapForV0) + t.ResidualPotentialTimeSlope * nearest.Time;
-            pulls[index] = (n.GapOffsetPull, n.SpringConstantPull, (v0 - v0True) / v0Sigma, (c.GapDrift!.Value - t.GapDriftRate) / c.GapDrift.Sigma, c.PValue);
+            return (n.GapOffsetPull, n.SpringConstantPull, (v0 - v0True) / v0Sigma, (c.GapDrift!.Value - t.GapDriftRate) / c.GapDrift.Sigma, c.PValue);
         });
         using var scope = Assert.EnterMultipleScope();
         Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("V0", pulls.Select(p => p.V0)), ("gap drift", pulls.Select(p => p.Drift)));

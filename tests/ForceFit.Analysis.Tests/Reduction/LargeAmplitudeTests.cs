@@ -21,12 +21,7 @@ public sealed class LargeAmplitudeTests : TemporaryFolderTest
     public void The_exact_amplitude_average_is_undone_where_the_amplitude_is_a_tenth_of_the_gap_or_more()
     {
         var scenario = new Scenario { Mode = SimulatedMode.FrequencyShift, Protocol = SimulatedProtocol.VoltageSteps, Runs = 1, Amplitude = 15e-9 };
-        var results = new (double Z0, double K, double P)[Seeds];
-        Parallel.For(0, Seeds, new ParallelOptions { MaxDegreeOfParallelism = 2 }, index =>
-        {
-            var n = SimulatedNight.Reduce(Path.Combine(Folder, "n" + index), scenario, 7100 + (ulong)index);
-            results[index] = (n.GapOffsetPull, n.SpringConstantPull, n.CurvePValue);
-        });
+        var results = SimulatedNight.ReduceEach(Folder, scenario, 7100, Seeds, n => (Z0: n.GapOffsetPull, K: n.SpringConstantPull, P: n.CurvePValue));
         foreach (var r in results) TestContext.Out.WriteLine($"z0 pull {r.Z0:F2}, k pull {r.K:F2}, p against the true curve {r.P:G3}");
         Assert.That(results.Count(r => r.P > 0.01), Is.GreaterThanOrEqualTo(Seeds - 1));
     }
