@@ -16,9 +16,10 @@ public sealed record FitOptions(double ParameterTolerance = 1e-14, double ChiSqu
 /// <summary>
 /// Levenberg–Marquardt least squares (K. Levenberg, Q. Appl. Math. 2, 164 (1944); D. W. Marquardt, J. SIAM 11, 431
 /// (1963)) with Marquardt's scaling by diag(J^T J) (kept at its running maximum, as in J. J. More's MINPACK
-/// implementation, Lecture Notes in Mathematics 630 (1978)); each step solves the damped problem by QR of the
-/// stacked matrix [J; sqrt(lambda D)], not by the normal equations. The covariance at the solution is
-/// (J^T W J)^-1, scaled by RSS/dof when no sigmas are given.
+/// implementation, Lecture Notes in Mathematics 630 (1978)); each step solves the damped problem by QR, not by the
+/// normal equations: J = Q R once per iteration, then for each trial lambda the small stacked problem
+/// [R; sqrt(lambda D)] d = [Q^T r; 0] (MINPACK's qrsolv idea). The covariance at the solution is (J^T W J)^-1 from the
+/// SVD of R (the singular values of J), scaled by RSS/dof when no sigmas are given.
 /// </summary>
 public static class LevenbergMarquardt
 {
@@ -52,15 +53,23 @@ public static class LevenbergMarquardt
                 break;
             }
             bool accepted = false;
+            // min |J d − r|^2 + lambda |D d|^2 = min |R d − Q^T r|^2 + lambda |D d|^2 + const, with J = Q R.
+            var decomposition = new HouseholderQR(Columns(jacobian));
+            double[,] upper = decomposition.R;
+            double[] qtr = decomposition.TransposeQTimes(r.ToArray());
             while (!accepted)
             {
-                // Solve min |[J; sqrt(lambda D)] d − [r; 0]| by QR.
-                var stacked = Matrix<double>.Build.Dense(n + k, k);
-                stacked.SetSubMatrix(0, 0, jacobian);
-                for (int j = 0; j < k; j++) stacked[n + j, j] = Math.Sqrt(lambda * Math.Max(diag[j], 1e-300));
-                var rhs = Vector<double>.Build.Dense(n + k);
-                rhs.SetSubVector(0, n, r);
-                Vector<double> step = stacked.QR(MathNet.Numerics.LinearAlgebra.Factorization.QRMethod.Thin).Solve(rhs);
+                // Solve min |[R; sqrt(lambda D)] d − [Q^T r; 0]| by QR of the stacked 2k x k matrix.
+                var stacked = new double[k][];
+                for (int j = 0; j < k; j++)
+                {
+                    stacked[j] = new double[2 * k];
+                    for (int i = 0; i <= j; i++) stacked[j][i] = upper[i, j];
+                    stacked[j][k + j] = Math.Sqrt(lambda * Math.Max(diag[j], 1e-300));
+                }
+                var rhs = new double[2 * k];
+                Array.Copy(qtr, rhs, k);
+                double[] step = new HouseholderQR(stacked).Solve(rhs);
                 var trial = new double[k];
                 for (int j = 0; j < k; j++) trial[j] = p[j] + step[j];
                 double trialChi2 = ChiSquare(model, x, y, w, trial);
@@ -95,7 +104,8 @@ public static class LevenbergMarquardt
         // the data do not determine some combination of parameters.
         var columnScale = Enumerable.Range(0, k).Select(j => Math.Max(jacobian.Column(j).L2Norm(), 1e-300)).ToArray();
         Matrix<double> scaled = Matrix<double>.Build.Dense(n, k, (i, j) => jacobian[i, j] / columnScale[j]);
-        var svd = scaled.Svd(computeVectors: true);
+        // The singular values and right vectors of J are those of R in J = Q R (Q has orthonormal columns).
+        var svd = (n > k ? Matrix<double>.Build.DenseOfArray(new HouseholderQR(Columns(scaled)).R) : scaled).Svd(computeVectors: true);
         double rcond = svd.S[svd.S.Count - 1] / svd.S[0];
         if (!(rcond > 1e-12) && stop != StopReason.IterationLimit) stop = StopReason.Singular;
         Matrix<double> vt = svd.VT;
@@ -115,22 +125,21 @@ public static class LevenbergMarquardt
     /// Generalised least squares: minimises (y − f(p))^T C^-1 (y − f(p)) for observations with a full covariance C,
     /// by whitening with the Cholesky factor C = L L^T (residuals L^-1 (y − f)) and the Levenberg–Marquardt fit above
     /// on unit sigmas; the covariance is then (J^T C^-1 J)^-1 and chi-square the generalised one. The model gives all
-    /// n values at once; its Jacobian is taken by central differences of the whole vector.
+    /// n values at once; its Jacobian is taken by central differences of the whole vector, or, where
+    /// <paramref name="rowsOf"/> names the only observations a parameter moves, of those rows alone through
+    /// <paramref name="row"/> (which must agree with <paramref name="model"/>).
     /// </summary>
-    public static FitResult FitCorrelated(Func<double[], double[]> model, IReadOnlyList<double> y, double[,] covariance, double[] start, FitOptions? options = null)
+    public static FitResult FitCorrelated(Func<double[], double[]> model, IReadOnlyList<double> y, double[,] covariance, double[] start, FitOptions? options = null,
+        Func<double[], int, double>? row = null, IReadOnlyList<int[]?>? rowsOf = null)
     {
         int n = y.Count, k = start.Length;
-        double[,] l = Matrices.CholeskyLower(covariance);
-        for (int i = 0; i < n; i++) if (!(l[i, i] > 0)) throw new ArgumentException($"the covariance of observation {i} is not positive definite");
-        double[] Whiten(IReadOnlyList<double> v)
+        double[][] l = Matrices.CholeskyRows(covariance);
+        for (int i = 0; i < n; i++) if (!(l[i][i] > 0)) throw new ArgumentException($"the covariance of observation {i} is not positive definite");
+        // Forward substitution L z = v; rows before the first non-zero of v stay zero.
+        double[] Whiten(IReadOnlyList<double> v, int first = 0)
         {
             var z = new double[n];
-            for (int i = 0; i < n; i++)
-            {
-                double sum = v[i];
-                for (int c = 0; c < i; c++) sum -= l[i, c] * z[c];
-                z[i] = sum / l[i, i];
-            }
+            for (int i = first; i < n; i++) z[i] = (v[i] - Matrices.Dot(l[i].AsSpan(first, i - first), z.AsSpan(first, i - first))) / l[i][i];
             return z;
         }
         double[] yw = Whiten(y);
@@ -149,6 +158,23 @@ public static class LevenbergMarquardt
             for (int j = 0; j < k; j++)
             {
                 double h = 6e-6 * Math.Max(Math.Abs(p[j]), 1e-8);
+                if (row is not null && rowsOf?[j] is { } rows)
+                {
+                    var difference = new double[n];
+                    int first = n;
+                    foreach (int i in rows)
+                    {
+                        q[j] = p[j] + h;
+                        double upRow = row(q, i);
+                        q[j] = p[j] - h;
+                        difference[i] = upRow - row(q, i);
+                        first = Math.Min(first, i);
+                    }
+                    q[j] = p[j];
+                    double[] sparse = Whiten(difference, first);
+                    for (int i = 0; i < n; i++) jac[i, j] = sparse[i] / (2 * h);
+                    continue;
+                }
                 q[j] = p[j] + h;
                 double[] up = model(q);
                 q[j] = p[j] - h;
@@ -171,6 +197,8 @@ public static class LevenbergMarquardt
         var xs = Enumerable.Range(0, n).Select(i => (double)i).ToArray();
         return Fit(whitened, xs, yw, start, Enumerable.Repeat(1.0, n).ToArray(), options);
     }
+
+    private static double[][] Columns(Matrix<double> m) => Enumerable.Range(0, m.ColumnCount).Select(j => m.Column(j).ToArray()).ToArray();
 
     // A point where no step along the damped directions lowers chi-square by more than rounding: relative change 1e-14.
     private static bool IsStationary(NonlinearModel model, IReadOnlyList<double> x, IReadOnlyList<double> y, double[] w, double[] p, double chi2)

@@ -94,23 +94,63 @@ public static class Matrices
     /// </summary>
     public static double[,] CholeskyLower(double[,] c)
     {
-        int n = c.GetLength(0);
+        double[][] rows = CholeskyRows(c);
+        int n = rows.Length;
         var l = new double[n, n];
-        for (int j = 0; j < n; j++)
+        for (int i = 0; i < n; i++) for (int k = 0; k <= i; k++) l[i, k] = rows[i][k];
+        return l;
+    }
+
+    /// <summary>
+    /// <see cref="CholeskyLower"/> as rows: row i holds L[i, 0..i] (the inner products run over contiguous memory,
+    /// several at a time).
+    /// </summary>
+    public static double[][] CholeskyRows(double[,] c)
+    {
+        int n = c.GetLength(0);
+        var l = new double[n][];
+        for (int i = 0; i < n; i++)
         {
-            double d = c[j, j];
-            for (int k = 0; k < j; k++) d -= l[j, k] * l[j, k];
-            if (d <= 1e-15 * Math.Abs(c[j, j]) || d <= 0) continue; // a combination with no variance left
-            double ljj = Math.Sqrt(d);
-            l[j, j] = ljj;
-            for (int i = j + 1; i < n; i++)
+            var row = new double[i + 1];
+            l[i] = row;
+            for (int j = 0; j < i; j++)
             {
-                double s = c[i, j];
-                for (int k = 0; k < j; k++) s -= l[i, k] * l[j, k];
-                l[i, j] = s / ljj;
+                double ljj = l[j][j];
+                row[j] = ljj == 0 ? 0 : (c[i, j] - Dot(row.AsSpan(0, j), l[j].AsSpan(0, j))) / ljj;
             }
+            double d = c[i, i] - Dot(row.AsSpan(0, i), row.AsSpan(0, i));
+            // A combination with no variance left: its column stays zero.
+            if (d <= 1e-15 * Math.Abs(c[i, i]) || d <= 0)
+            {
+                row[i] = 0;
+                // The rows below must not use this column: they are computed with L[j, j] = 0 giving 0 above.
+                continue;
+            }
+            row[i] = Math.Sqrt(d);
         }
         return l;
+    }
+
+    /// <summary>Sum of x[i] y[i], the machine's vector width at a time.</summary>
+    public static double Dot(ReadOnlySpan<double> x, ReadOnlySpan<double> y)
+    {
+        int n = x.Length, width = System.Numerics.Vector<double>.Count, i = 0;
+        var acc = System.Numerics.Vector<double>.Zero;
+        for (; i + width <= n; i += width)
+            acc += new System.Numerics.Vector<double>(x[i..]) * new System.Numerics.Vector<double>(y[i..]);
+        double s = System.Numerics.Vector.Sum(acc);
+        for (; i < n; i++) s += x[i] * y[i];
+        return s;
+    }
+
+    /// <summary>y ← y − a x, the machine's vector width at a time.</summary>
+    public static void SubtractScaled(Span<double> y, double a, ReadOnlySpan<double> x)
+    {
+        int n = y.Length, width = System.Numerics.Vector<double>.Count, i = 0;
+        var va = new System.Numerics.Vector<double>(a);
+        for (; i + width <= n; i += width)
+            (new System.Numerics.Vector<double>(y[i..]) - va * new System.Numerics.Vector<double>(x[i..])).CopyTo(y[i..]);
+        for (; i < n; i++) y[i] -= a * x[i];
     }
 
     /// <summary>

@@ -183,6 +183,7 @@ public static class ReportFolder
             if (run.Calibration.PiezoScale is { } s) o["piezo_scale"] = Pair(s);
             if (run.Calibration.GapDrift is { } g) o["gap_drift_m_per_s"] = Pair(g);
             if (run.Calibration.ResidualPotentialDrift is { } w) o["v0_drift_V_per_s"] = Pair(w);
+            if (run.Calibration.SignalLag is { } lag) o["signal_lag_s"] = Pair(lag);
             o["z0_reference_time_s"] = run.Calibration.ReferenceTime;
             o["calibration_chi2"] = run.Calibration.ChiSquare;
             o["calibration_dof"] = run.Calibration.DegreesOfFreedom;

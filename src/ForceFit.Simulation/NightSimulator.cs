@@ -216,7 +216,7 @@ public static class NightSimulator
         if (s.Protocol == SimulatedProtocol.VoltageSteps)
             w.Append($"protocol = \"voltage-steps\"\nsettle = \"{Text.Q(s.Settle, "s")}\"\n");
         else
-            w.Append($"protocol = \"distance-ramps\"\nbin_width = \"{Text.Q(s.BinWidth, "nm")}\"\n");
+            w.Append($"protocol = \"distance-ramps\"\nbin_width = \"{Text.Q(s.BinWidth, "nm")}\"\nsettle = \"{Text.Q(s.RampSettle, "s")}\"\n");
         w.Append("\n[columns]\n");
         w.Append($"time = {{ name = \"{c[0].Name}\", unit = \"{c[0].Unit}\" }}\n");
         w.Append($"piezo = {{ name = \"{c[1].Name}\", unit = \"{c[1].Unit}\" }}\n");

@@ -94,6 +94,9 @@ public sealed class RunGenerator
             return free * Math.Sqrt(1 - gradient / _truth.SpringConstant);
         }
         double x = _forces.Deflection(gap, effective, _truth.SpringConstant);
+        // V0 belongs to the actual separation, the sphere deflected by x: once more with V0 there (x moves V0 by
+        // microvolts, which moves x by far less than a femtometre).
+        x = _forces.Deflection(gap, bias - ResidualPotential(gap - x, time), _truth.SpringConstant);
         return free + x / _truth.DeflectionSensitivity;
     }
 

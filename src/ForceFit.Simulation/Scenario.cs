@@ -136,6 +136,8 @@ public sealed record Scenario
     public double SampleRate { get; init; } = 200.0;
     /// <summary>Time discarded at the start of each step by the analysis, written into the run file (s).</summary>
     public double Settle { get; init; } = 0.5;
+    /// <summary>Time discarded at the start of every ramp sweep (and hold), written into ramp run files (s): ten lag times.</summary>
+    public double RampSettle { get; init; } = 0.3;
     /// <summary>Gap bin width written into ramp run files (m).</summary>
     public double BinWidth { get; init; } = 2e-9;
 

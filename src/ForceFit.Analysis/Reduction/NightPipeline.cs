@@ -84,10 +84,10 @@ public static class NightPipeline
         public void Report(T value) => report(value);
     }
 
-    /// <summary>V0 at the run's nearest position, and the weighted straight-line slope of V0 against separation.</summary>
+    /// <summary>V0 at the run's nearest position, and the slope of V0 against separation: the generalised least-squares line with the V0 values' covariance.</summary>
     public static (double V0, double V0Sigma, double Slope, double SlopeSigma, double Separation) ResidualPotential(RunResult run)
     {
-        (FitResult line, double nearest) = RunReducer.ResidualPotentialLine(run.Positions);
+        (FitResult line, double nearest) = RunReducer.ResidualPotentialLine(run.Positions, run.ResidualPotentialCovariance);
         return (line.Parameters[0], Math.Sqrt(line.Covariance[0, 0]), line.Parameters[1], Math.Sqrt(line.Covariance[1, 1]), nearest);
     }
 }

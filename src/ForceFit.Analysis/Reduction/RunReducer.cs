@@ -17,11 +17,15 @@ namespace ForceFit.Analysis.Reduction;
 /// <param name="ReferenceCasimir">Each of the settings' theories' Casimir force gradient (frequency mode) or force
 /// (deflection) at a gap, felt by the reference steps; null when no theory is given (reference steps then taken as force-free).</param>
 /// <param name="ReferenceCasimirScale">Factor on it (1; varied for its systematic).</param>
+/// <param name="Lag">Time constant of the recorded signal's first-order lag (s; distance-ramps, measured).</param>
+/// <param name="ReferencePotentialShift">Added to V0 at the reference gap where it is measured from reference steps at
+/// several biases (0; varied for its systematic).</param>
 internal sealed record RunConstants(double Scale, double Radius, double Amplitude, double? SpringConstant, double? Sensitivity,
-    Func<double, double[]>? ReferenceCasimir = null, double ReferenceCasimirScale = 1);
+    Func<double, double[]>? ReferenceCasimir = null, double ReferenceCasimirScale = 1, double Lag = 0, double ReferencePotentialShift = 0);
 
 /// <summary>
-/// Reduces one run's steps (voltage-steps protocol) to a calibrated force gradient or force per piezo position
+/// Reduces one run's steps (voltage-steps) or gap bins gathered into windows (distance-ramps, see
+/// <see cref="RampWindows"/>) to a calibrated force gradient or force per piezo position
 /// (physics.md): free signal f0(t) or S_free(t) from reference steps; the signal turned into the linear observable
 /// y = 1 − (f/f0)^2 = F'_eff/k or u = S − S_free = −F/(k m); a bias parabola per position; the electrostatic
 /// calibration of z0 and k (and m); the amplitude correction; and every error propagated linearly from the steps'
@@ -29,23 +33,22 @@ internal sealed record RunConstants(double Scale, double Radius, double Amplitud
 /// </summary>
 public static class RunReducer
 {
-    private const int OuterIterations = 3;
+    private const int OuterIterations = 3, MaxOuterIterations = 10;
 
     /// <summary>Reduces one run; throws <see cref="InputException"/> when the data cannot give a calibration.</summary>
     public static RunResult Reduce(RunSegments segments)
     {
         RunSettings run = segments.Run;
-        if (run.Protocol != Protocol.VoltageSteps)
-            throw new InputException(new Problem(run.RunFile, null, "protocol 'distance-ramps': the reduction of ramps is not available in this version; steps.csv can be written with 'forcefit check'"));
-        var nominal = Constants(run);
         var warnings = new List<string>();
-        Core core = Compute(segments, nominal, null, warnings);
+        Prepared prepared = Prepare(segments, warnings);
+        var nominal = Constants(run) with { Lag = prepared.Lag };
+        Core core = Compute(prepared, nominal, null, warnings);
         var sources = new List<SystematicSource> { core.CalibrationSource };
         void Vary(string name, Func<RunConstants, double, RunConstants> with, double sigma, bool shared)
         {
             if (!(sigma > 0)) return;
-            Core up = Compute(segments, with(nominal, +sigma), core, null);
-            Core down = Compute(segments, with(nominal, -sigma), core, null);
+            Core up = Compute(prepared, with(nominal, +sigma), core, null);
+            Core down = Compute(prepared, with(nominal, -sigma), core, null);
             sources.Add(Difference(name, core, up, down, shared));
         }
         // The piezo scale is the same physical piezo for every run of a night: a shared systematic, varied by its stated
@@ -57,6 +60,8 @@ public static class RunReducer
             Vary("amplitude", (c, d) => c with { Amplitude = Math.Max(0, c.Amplitude + d) }, run.Instrument.Amplitude.Sigma, true);
         if (nominal.ReferenceCasimir is not null)
             Vary("reference-gap Casimir force", (c, d) => c with { ReferenceCasimirScale = 1 + d }, ReferenceCasimirRelativeSigma(nominal.ReferenceCasimir, core), true);
+        if (core.ReferencePotential is { } v0Reference)
+            Vary("V0 at the reference gap", (c, d) => c with { ReferencePotentialShift = d }, v0Reference.StatisticalSigma, false);
         if (run.Instrument.SpringConstant is { } k) Vary("spring constant (given)", (c, d) => c with { SpringConstant = k.Value + d }, k.Sigma, false);
         if (run.Instrument.DeflectionSensitivity is { } m) Vary("deflection sensitivity (given)", (c, d) => c with { Sensitivity = m.Value + d }, m.Sigma, false);
 
@@ -125,6 +130,12 @@ public static class RunReducer
         /// <summary>The reference steps' gaps at the final calibration (m).</summary>
         public double[] ReferenceGaps { get; init; } = [];
 
+        /// <summary>How the free-signal track moves with z0 and the constant (null when it is not rebuilt from references).</summary>
+        public TrackSensitivity? Sensitivity { get; init; }
+
+        /// <summary>V0 at the reference gap measured from reference steps at several biases, else null (extrapolated along the V0 line).</summary>
+        public Estimate? ReferencePotential { get; init; }
+
         /// <summary>The calibration fit's parameters (the start of a systematic variation).</summary>
         public double[] Parameters { get; init; } = [];
     }
@@ -138,15 +149,31 @@ public static class RunReducer
     /// <param name="Samples">Samples kept.</param>
     /// <param name="BiasSigma">Uncertainty of the step's mean recorded bias (readout noise / sqrt(samples)).</param>
     /// <param name="PiezoSigma">Uncertainty of the position's mean recorded piezo reading, shared by its steps.</param>
-    private sealed record StepPoint(double Time, double Piezo, double Bias, double Signal, double SignalSigma, int Samples, double BiasSigma = 0, double PiezoSigma = 0);
+    /// <param name="Spread">Rms spread of the true readings the point averages over (m; ramp windows, else 0).</param>
+    /// <param name="Speed">Reading speed while it was recorded (m/s; ramp windows, else 0).</param>
+    private sealed record StepPoint(double Time, double Piezo, double Bias, double Signal, double SignalSigma, int Samples, double BiasSigma = 0, double PiezoSigma = 0,
+        double Spread = 0, double Speed = 0);
 
-    private static Core Compute(RunSegments segments, RunConstants c, Core? start, List<string>? warnings)
+    /// <summary>A run's points, grouped by position, with what the passes share.</summary>
+    /// <param name="Segments">The run's steps or bins as read.</param>
+    /// <param name="Steps">The points of usable positions.</param>
+    /// <param name="Groups">Each position's points, positions ordered by reading.</param>
+    /// <param name="References">Reference steps (the free signal).</param>
+    /// <param name="Correlated">Pairs of points with correlated noise (ramp windows of one sweep), with the correlation.</param>
+    /// <param name="PiezoShared">True when a position's points share one mean reading (voltage steps), so its readout error is common.</param>
+    /// <param name="Lag">The signal's lag time measured from the ramps (s), 0 for steps.</param>
+    /// <param name="LagSigma">Its uncertainty (s).</param>
+    private sealed record Prepared(RunSegments Segments, StepPoint[] Steps, int[][] Groups, ReferencePoint[] References, (int I, int L, double Rho)[] Correlated,
+        bool PiezoShared, double Lag, double LagSigma);
+
+    private static Prepared Prepare(RunSegments segments, List<string> warnings)
     {
         RunSettings run = segments.Run;
-        bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
+        var references = segments.Segments.Where(s => s.Kind == SegmentKind.Reference)
+            .Select(r => new ReferencePoint(r.MeanTime, r.Piezo, r.Bias, r.Mean, r.Sigma)).ToArray();
+        if (run.Protocol == Protocol.DistanceRamps) return PrepareRamps(segments, references, warnings);
         var steps = segments.Segments.Where(s => s.Kind == SegmentKind.Step).Select(s => new StepPoint(s.MeanTime, s.Piezo, s.Bias, s.Mean, s.Sigma, s.SamplesKept,
             segments.Thresholds.BiasNoise / Math.Sqrt(s.SamplesKept))).ToArray();
-        var references = segments.Segments.Where(s => s.Kind == SegmentKind.Reference).ToArray();
         int[][] groups = Positions(steps, segments.Thresholds, run, warnings);
         // Keep only the steps of usable positions, re-indexed.
         int[] usedSteps = groups.SelectMany(g => g).Order().ToArray();
@@ -163,8 +190,52 @@ public static class RunReducer
             double sigma = segments.Thresholds.PiezoNoise / Math.Sqrt(total);
             foreach (int i in members) steps[i] = steps[i] with { Piezo = mean, PiezoSigma = sigma };
         }
+        return new Prepared(segments, steps, groups, references, [], true, 0, 0);
+    }
+
+    // Ramps: one point per sweep and window (RampWindows); a window is a position when it holds at least three
+    // distinct biases. Each point keeps its own mean reading (its readout error is its own).
+    // The references are the holds and each sweep's part beyond reference_beyond (at both ends of every bias's sweeps).
+    private static Prepared PrepareRamps(RunSegments segments, ReferencePoint[] holds, List<string> warnings)
+    {
+        RampWindowSet set = RampWindows.Build(segments);
+        var references = holds.Concat(set.References.Select(r => new ReferencePoint(r.Time, r.Piezo, r.Bias, r.Signal, r.Sigma, r.Spread, r.Speed)))
+            .OrderBy(r => r.MeanTime).ToArray();
+        StepThresholds t = segments.Thresholds;
+        var byWindow = Enumerable.Range(0, set.Points.Length).GroupBy(i => set.Points[i].Window).OrderBy(g => g.Key).ToArray();
+        var keep = new List<int[]>();
+        foreach (var window in byWindow)
+        {
+            double[] biases = window.Select(i => set.Points[i].Bias).Order().ToArray();
+            int distinct = 1 + Enumerable.Range(1, biases.Length - 1).Count(k => biases[k] - biases[k - 1] > t.Bias);
+            if (distinct >= 3) keep.Add(window.ToArray());
+            else warnings.Add($"{segments.Run.DataFile}: the ramp window at piezo {set.Points[window.First()].Piezo * 1e9:F1} nm has {distinct} distinct bias(es); a parabola needs three, so it was left out");
+        }
+        int[] used = keep.SelectMany(g => g).Order().ToArray();
+        var newIndex = new Dictionary<int, int>();
+        for (int i = 0; i < used.Length; i++) newIndex[used[i]] = i;
+        var steps = used.Select(i => set.Points[i]).Select(p => new StepPoint(p.Time, p.Piezo, p.Bias, p.Signal, p.Sigma, p.Samples,
+            t.BiasNoise / Math.Sqrt(p.Samples), t.PiezoNoise / Math.Sqrt(p.Samples), p.Spread, p.Speed)).ToArray();
+        // Positions ordered by reading, as for steps.
+        int[][] groups = keep.Select(g => g.Select(i => newIndex[i]).OrderBy(i => steps[i].Time).ToArray()).OrderBy(g => g.Average(i => steps[i].Piezo)).ToArray();
+        var correlated = set.Correlated.Where(c => newIndex.ContainsKey(c.I) && newIndex.ContainsKey(c.L)).Select(c => (newIndex[c.I], newIndex[c.L], c.Rho)).ToArray();
+        if (set.LagSigma == 0)
+            warnings.Add($"{segments.Run.DataFile}: the signal's lag could not be measured (no approach and retract at the same bias); taken as zero");
+        return new Prepared(segments, steps, groups, references, correlated, false, set.Lag, set.LagSigma);
+    }
+
+    private static Core Compute(Prepared prepared, RunConstants c, Core? start, List<string>? warnings)
+    {
+        RunSegments segments = prepared.Segments;
+        RunSettings run = segments.Run;
+        bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
+        StepPoint[] steps = prepared.Steps;
+        int[][] groups = prepared.Groups;
+        ReferencePoint[] references = prepared.References;
         if (groups.Length < 3)
-            throw new InputException(new Problem(run.DataFile, null, $"only {groups.Length} piezo position(s) with at least three biases: the calibration needs three or more"));
+            throw new InputException(new Problem(run.DataFile, null, run.Protocol == Protocol.DistanceRamps
+                ? $"only {groups.Length} ramp window(s) with at least three biases (from {segments.Segments.Count(s => s.Kind is SegmentKind.Approach or SegmentKind.Retract)} gap bins): the calibration needs three or more; does the piezo sweep while the bias holds?"
+                : $"only {groups.Length} piezo position(s) with at least three biases: the calibration needs three or more"));
         // The global fit's unknowns: V0 and the bias-free value of every position, z0, k (or k m and m) and two drifts.
         int unknowns = 2 * groups.Length + 4 + (frequency ? 0 : 1);
         int used = groups.Sum(g => g.Length);
@@ -182,17 +253,48 @@ public static class RunReducer
             references.Select(r => new FreeSignalPoint(r.MeanTime, r.Mean, r.Sigma)).ToArray()));
         CurveShape? shape = start?.Shape;
         State state = default!;
-        // A variation starts from the nominal result with one pass. The variation of the Casimir force at the reference
-        // gap changes f0(t) itself to first order, so it rebuilds f0(t) once and takes a second pass; the other
-        // constants move the reference correction only at second order and keep the nominal f0(t).
-        int passes = start is null ? OuterIterations : c.ReferenceCasimirScale != 1 ? 2 : 1;
-        for (int outer = 0; outer < passes; outer++)
+        // Passes alternate the calibration fit and the free signal rebuilt from the references corrected with it, until
+        // z0 and the instrument constant move by less than 2% of their statistical sigmas (at least three passes for the
+        // nominal reduction, which also refines the curve shape). A variation starts from the nominal result with one
+        // pass and rebuilds f0(t) likewise: every constant moves the reference correction (the piezo scale moves a
+        // reference gap of 2 um by 10 nm per 0.5%, which in deflection mode moves S_free by far more than its noise).
+        bool rebuilds = givenFree is null;
+        int minPasses = start is null ? OuterIterations : rebuilds ? 2 : 1, maxPasses = rebuilds ? MaxOuterIterations : minPasses;
+        Estimate? referencePotential = null;
+        State? previous = null;
+        // The V0 slope against separation the model uses within positions: the previous pass's (0 at the very start).
+        double v0Slope = start is null ? 0 : ResidualPotentialSlope(start.Positions, start.ResidualPotentialCovariance);
+        // The free signal rebuilt from the references corrected with a calibration basis (its z0 and constant).
+        FreeSignalTrack TrackFrom(State basis, double slope)
         {
-            state = GlobalPass(steps, groups, track, c, electrostatics, sign, shape, frequency, outer == 0 ? start?.Parameters : state.Parameters);
+            // V0 at each reference's gap: measured at their mean gap a0 and carried along the run's V0 slope (references
+            // from 1.6 to 2 um differ by ~0.4 mV at 2 mV/um), else the positions' V0 line extrapolated.
+            double a0 = references.Average(r => ReferenceGap(r, basis, c, sign));
+            Estimate? v0Reference = ReferencePotential(references, basis, c, electrostatics, sign, frequency, a0, slope);
+            if (ReferenceEquals(basis, state)) referencePotential = v0Reference;
+            Func<double, double> v0At = v0Reference is { } measured ? a => measured.Value + slope * (a - a0) : a => ResidualPotentialAt(basis, a);
+            return FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
+                CorrectedReference(r, basis, c, electrostatics, sign, frequency, v0At), r.Sigma)).ToArray());
+        }
+        TrackSensitivity? sensitivity = start?.Sensitivity;
+        for (int outer = 0; ; outer++)
+        {
+            state = GlobalPass(prepared, track, c, electrostatics, sign, shape, frequency, outer == 0 ? start?.Parameters : state.Parameters, variation: start is not null, v0Slope, sensitivity);
+            v0Slope = ResidualPotentialSlope(state.Positions, state.ResidualPotentialCovariance);
             shape = state.Shape;
-            if (givenFree is null && outer < passes - 1)
-                track = FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
-                    CorrectedReference(r, state, c, electrostatics, sign, frequency), r.Sigma)).ToArray());
+            bool settled = previous is not null
+                && Math.Abs(state.GapOffset - previous.GapOffset) < 0.02 * state.Calibration.GapOffset.StatisticalSigma
+                && Math.Abs(state.Kappa - previous.Kappa) < 0.02 * Math.Abs(state.Kappa) * state.Calibration.SpringConstant.StatisticalSigma / state.Calibration.SpringConstant.Value;
+            if (outer + 1 >= maxPasses || (outer + 1 >= minPasses && settled)) break;
+            if (!rebuilds) { previous = state; continue; }
+            track = TrackFrom(state, v0Slope);
+            // The track depends on the calibration it was corrected with: the next fit sees that dependence (to first
+            // order in z0 and the constant about this basis), so that f0(t) or S_free(t) and the calibration are
+            // fitted consistently and the calibration's uncertainty carries the reference correction's.
+            State basis = state;
+            double basisSlope = v0Slope;
+            sensitivity = new TrackSensitivity((z0, kappa) => TrackFrom(basis with { GapOffset = z0, Kappa = kappa }, basisSlope), basis.GapOffset, basis.Kappa);
+            previous = state;
         }
         if (warnings is not null)
         {
@@ -201,7 +303,10 @@ public static class RunReducer
             else if (state.Calibration.DegreesOfFreedom > 0 && state.Calibration.PValue < 1e-3)
                 warnings.Add($"{run.Name}: the electrostatic calibration fits poorly (chi2 = {state.Calibration.ChiSquare:F1} for {state.Calibration.DegreesOfFreedom} degrees of freedom, p = {state.Calibration.PValue:G2})");
         }
-        return state.ToCore(track, warnings ?? []) with { ReferenceGaps = references.Select(r => ReferenceGap(r, state, c, sign)).ToArray() };
+        return state.ToCore(track, warnings ?? []) with
+        {
+            ReferenceGaps = references.Select(r => ReferenceGap(r, state, c, sign)).ToArray(), ReferencePotential = referencePotential, Sensitivity = sensitivity,
+        };
     }
 
     /// <summary>The outcome of one pass.</summary>
@@ -235,39 +340,119 @@ public static class RunReducer
         return kept.ToArray();
     }
 
-    private static double CorrectedReference(SegmentStatistics r, State s, RunConstants c, ElectrostaticTable e, int sign, bool frequency)
+    /// <summary>The free-signal track rebuilt for other values of z0 and the constant (k, or k m), and the basis values the current track was built with.</summary>
+    private sealed record TrackSensitivity(Func<double, double, FreeSignalTrack> For, double GapOffset, double Constant);
+
+    /// <summary>A free-signal reference: a reference step, or a ramp's stretch beyond reference_beyond (with the spread
+    /// and speed of its readings, as for ramp windows).</summary>
+    private sealed record ReferencePoint(double MeanTime, double Piezo, double Bias, double Mean, double Sigma, double Spread = 0, double Speed = 0);
+
+    private static double CorrectedReference(ReferencePoint r, State s, RunConstants c, ElectrostaticTable e, int sign, bool frequency, Func<double, double> v0At)
     {
-        // The reference gap still feels the electrostatic force of (V − V0(a_ref))^2, with V0 extrapolated along its
-        // fitted gap trend, and the Casimir force of the settings' theories (see ReferenceCasimir).
-        double a = ReferenceGap(r, s, c, sign);
-        double v0 = ResidualPotentialAt(s, a);
-        double dv = r.Bias - v0;
-        double casimir = c.ReferenceCasimir is { } f ? c.ReferenceCasimirScale * f(a).Average() : 0;
-        if (!double.IsFinite(casimir)) casimir = 0;
+        // The reference gap still feels the electrostatic force of (V − V0(a_ref))^2, with V0 measured from the
+        // references themselves where they have several biases (ReferencePotential), else extrapolated along its
+        // fitted gap trend, and the Casimir force of the settings' theories (see ReferenceCasimir). A ramp's stretch is
+        // averaged over its readings by the two-point rule, shifted back by the signal's lag (RampWindows).
+        double Felt(double reading)
+        {
+            double a = s.GapOffset + sign * c.Scale * reading;
+            double dv = r.Bias - v0At(a);
+            double casimir = c.ReferenceCasimir is { } f ? c.ReferenceCasimirScale * f(a).Average() : 0;
+            if (!double.IsFinite(casimir)) casimir = 0;
+            return (frequency ? e.AveragedGradient(a, c.Amplitude) : e.Force(a)) * dv * dv + casimir;
+        }
+        double shift = c.Lag * r.Speed, half = Math.Sqrt(r.Spread * r.Spread + shift * shift);
+        double felt = half == 0 && shift == 0 ? Felt(r.Piezo) : 0.5 * (Felt(r.Piezo - shift + half) + Felt(r.Piezo - shift - half));
         if (frequency)
         {
             // f_ref = f0 sqrt(1 − (<G>(a)(V − V0)^2 + F'_Casimir(a)) / k)  =>  f0 = f_ref / sqrt(1 − y)
-            double y = (e.AveragedGradient(a, c.Amplitude) * dv * dv + casimir) / s.Kappa;
+            double y = felt / s.Kappa;
             return double.IsFinite(y) ? r.Mean / Math.Sqrt(1 - y) : r.Mean;
         }
         // S_ref = S_free + u with u = −(E(a)(V − V0)^2 + F_Casimir(a)) / (k m)
-        double u = -(e.Force(a) * dv * dv + casimir) / s.Kappa;
+        double u = -felt / s.Kappa;
         return double.IsFinite(u) ? r.Mean - u : r.Mean;
     }
 
-    private static double ReferenceGap(SegmentStatistics r, State s, RunConstants c, int sign) => s.GapOffset + sign * c.Scale * r.Piezo;
+    private static double ReferenceGap(ReferencePoint r, State s, RunConstants c, int sign) => s.GapOffset + sign * c.Scale * r.Piezo;
+
+    /// <summary>
+    /// V0 at the references' mean gap a0 (V0 elsewhere along the run's slope) from reference steps at three or more
+    /// distinct biases (the holds and far stretches of distance ramps), or null. Each reference's free signal, corrected with a trial V0 (CorrectedReference), must lie on one straight
+    /// line in time; the V0 that makes it so is found by Gauss–Newton on [1, t, d free/d V0], its sigma scaled by the
+    /// Birge ratio when the scatter exceeds the references' noise. Extrapolating the positions' V0 line would not do:
+    /// for a force falling as 1/a the error of the reference's V0 shifts every position's V0 in proportion to its gap,
+    /// exactly like a V0 gap trend, so the data could not tell the two apart.
+    /// </summary>
+    private static Estimate? ReferencePotential(ReferencePoint[] references, State s, RunConstants c, ElectrostaticTable e, int sign, bool frequency, double a0, double slope)
+    {
+        double[] biases = references.Select(r => r.Bias).Order().ToArray();
+        int distinct = biases.Length == 0 ? 0 : 1 + Enumerable.Range(1, biases.Length - 1).Count(k => biases[k] - biases[k - 1] > 1e-3);
+        if (distinct < 3 || references.Length < 4) return null;
+        double v0 = ResidualPotentialAt(s, a0);
+        double tm = references.Average(r => r.MeanTime);
+        FitResult fit = null!;
+        for (int it = 0; it < 8; it++)
+        {
+            const double h = 1e-5; // V
+            var design = new double[references.Length, 3];
+            var y = new double[references.Length];
+            for (int i = 0; i < references.Length; i++)
+            {
+                double trial = v0;
+                double at = CorrectedReference(references[i], s, c, e, sign, frequency, a => trial + slope * (a - a0));
+                double up = CorrectedReference(references[i], s, c, e, sign, frequency, a => trial + h + slope * (a - a0));
+                design[i, 0] = 1;
+                design[i, 1] = references[i].MeanTime - tm;
+                design[i, 2] = (up - at) / h;
+                y[i] = at;
+            }
+            fit = LinearLeastSquares.Fit(design, y, references.Select(r => r.Sigma).ToArray());
+            // at_i + d_i dv = b0 + b1 t_i  =>  at_i = b0 + b1 t_i − d_i dv: the fitted third coefficient is −dv.
+            double step = -fit.Parameters[2];
+            v0 += step;
+            if (Math.Abs(step) < 1e-9) break;
+        }
+        double birge = fit.DegreesOfFreedom > 0 ? Math.Sqrt(Math.Max(1, fit.ChiSquare / fit.DegreesOfFreedom)) : 1;
+        double sigma = Math.Sqrt(fit.Covariance[2, 2]) * birge;
+        return new Estimate(v0 + c.ReferencePotentialShift, sigma, sigma);
+    }
 
     /// <summary>
     /// The weighted straight line V0(a) = b0 + b1 (a − a_nearest) through the positions' V0 values, with a_nearest the
-    /// nearest position's separation: b0 is V0 there and b1 the slope against separation.
+    /// nearest position's separation: b0 is V0 there and b1 the slope against separation. With the V0 values' covariance
+    /// (positions in index order) it is the generalised least-squares line, (X^T C^-1 X)^-1 X^T C^-1 v: the V0 values
+    /// share errors (the V0 drift, the free signal, the calibration), which the diagonal weights alone would ignore.
     /// </summary>
-    public static (FitResult Line, double NearestSeparation) ResidualPotentialLine(IReadOnlyList<PositionFit> positions)
+    public static (FitResult Line, double NearestSeparation) ResidualPotentialLine(IReadOnlyList<PositionFit> positions, double[,]? covariance = null)
     {
         double nearest = positions.Min(p => p.Separation);
-        FitResult line = LinearLeastSquares.Polynomial(positions.Select(p => p.Separation - nearest).ToArray(),
-            positions.Select(p => p.ResidualPotential).ToArray(), 1, positions.Select(p => Math.Max(p.ResidualPotentialSigma, 1e-15)).ToArray());
-        return (line, nearest);
+        if (covariance is null || covariance.GetLength(0) != positions.Count)
+            return (LinearLeastSquares.Polynomial(positions.Select(p => p.Separation - nearest).ToArray(),
+                positions.Select(p => p.ResidualPotential).ToArray(), 1, positions.Select(p => Math.Max(p.ResidualPotentialSigma, 1e-15)).ToArray()), nearest);
+        int n = positions.Count;
+        double[,] w = Matrices.InverseSymmetric(covariance);
+        var x = positions.Select(p => p.Separation - nearest).ToArray();
+        var v = positions.Select(p => p.ResidualPotential).ToArray();
+        double s00 = 0, s01 = 0, s11 = 0, t0 = 0, t1 = 0;
+        for (int i = 0; i < n; i++)
+            for (int j = 0; j < n; j++)
+            {
+                s00 += w[i, j];
+                s01 += w[i, j] * x[j];
+                s11 += x[i] * w[i, j] * x[j];
+                t0 += w[i, j] * v[j];
+                t1 += x[i] * w[i, j] * v[j];
+            }
+        double det = s00 * s11 - s01 * s01;
+        var p2 = new[,] { { s11 / det, -s01 / det }, { -s01 / det, s00 / det } };
+        double b0 = p2[0, 0] * t0 + p2[0, 1] * t1, b1 = p2[1, 0] * t0 + p2[1, 1] * t1;
+        var r = Enumerable.Range(0, n).Select(i => v[i] - b0 - b1 * x[i]).ToArray();
+        return (new FitResult([b0, b1], p2, Matrices.Bilinear(r, w, r), n - 2, 1, StopReason.ParametersConverged), nearest);
     }
+
+    private static double ResidualPotentialSlope(PositionFit[] positions, double[,] covariance) =>
+        positions.Length < 3 ? 0 : ResidualPotentialLine(positions, covariance).Line.Parameters[1] is var b && double.IsFinite(b) ? b : 0;
 
     private static double ResidualPotentialAt(State s, double a)
     {
@@ -294,9 +479,11 @@ public static class RunReducer
     /// held at its stated value (its uncertainty is a systematic shared by the runs, see Reduce).
     /// A slow gap drift v and V0 drift w are fitted because at this precision both are visible within one position.
     /// </summary>
-    private static State GlobalPass(StepPoint[] steps, int[][] groups, FreeSignalTrack track, RunConstants c, ElectrostaticTable e, int sign,
-        CurveShape? shape, bool frequency, double[]? from)
+    private static State GlobalPass(Prepared prepared, FreeSignalTrack track, RunConstants c, ElectrostaticTable e, int sign,
+        CurveShape? shape, bool frequency, double[]? from, bool variation, double v0Slope, TrackSensitivity? sensitivity)
     {
+        StepPoint[] steps = prepared.Steps;
+        int[][] groups = prepared.Groups;
         int n = steps.Length, np = groups.Length;
         var obs = new double[n];
         var noise = new double[n];
@@ -320,9 +507,25 @@ public static class RunReducer
                 dFree[i] = -1;
             }
         }
-        double[,] cov = StepCovariance(steps, noise, dFree, track);
+        double[,] cov = StepCovariance(steps, noise, dFree, track, prepared.Correlated);
+        // d obs / d z0 and d obs / d constant through the track (TrackSensitivity), by central differences.
+        double[]? obsByGap = null, obsByConstant = null;
+        if (sensitivity is not null)
+        {
+            double[] ObsWith(FreeSignalTrack t) => steps.Select(st =>
+            {
+                double free = t.At(st.Time);
+                return frequency ? 1 - st.Signal / free * (st.Signal / free) : st.Signal - free;
+            }).ToArray();
+            double hz = 1e-11, hk = 1e-4 * Math.Abs(sensitivity.Constant);
+            double[] zUp = ObsWith(sensitivity.For(sensitivity.GapOffset + hz, sensitivity.Constant)), zDown = ObsWith(sensitivity.For(sensitivity.GapOffset - hz, sensitivity.Constant));
+            double[] kUp = ObsWith(sensitivity.For(sensitivity.GapOffset, sensitivity.Constant + hk)), kDown = ObsWith(sensitivity.For(sensitivity.GapOffset, sensitivity.Constant - hk));
+            obsByGap = zUp.Zip(zDown, (u, d) => (u - d) / (2 * hz)).ToArray();
+            obsByConstant = kUp.Zip(kDown, (u, d) => (u - d) / (2 * hk)).ToArray();
+        }
         (ParabolaFit[] parabolas, double rateStart) = Parabolas(steps, groups, obs, cov);
-        var piezo = groups.Select(g => steps[g[0]].Piezo).ToArray();
+        // A position's reading: the steps' common one, or the mean of a ramp window's points.
+        var piezo = groups.Select(g => g.Average(i => steps[i].Piezo)).ToArray();
         var time = groups.Select(g => g.Average(i => steps[i].Time)).ToArray();
         double tMid = steps.Average(s => s.Time);
 
@@ -333,7 +536,9 @@ public static class RunReducer
         bool fitConstant = frequency ? !kGiven : !(kGiven && mGiven);
         bool fitM = !frequency && !kGiven && !mGiven;
         int iConstant = fitConstant ? 1 : -1, iM = fitM ? 1 + (fitConstant ? 1 : 0) : -1;
-        int iV = 1 + (fitConstant ? 1 : 0) + (fitM ? 1 : 0), iW = iV + 1, shared = iW + 1;
+        // Ramp windows also fit the signal's lag time (started from its approach-against-retract estimate).
+        bool fitLag = steps.Any(st => st.Speed != 0);
+        int iV = 1 + (fitConstant ? 1 : 0) + (fitM ? 1 : 0), iW = iV + 1, iLag = fitLag ? iW + 1 : -1, shared = iW + 1 + (fitLag ? 1 : 0);
         (double Z0, double K, double M, double V, double W) Calibration(ReadOnlySpan<double> p)
         {
             double constant = fitConstant ? p[iConstant] : frequency ? c.SpringConstant!.Value : c.SpringConstant!.Value * c.Sensitivity!.Value;
@@ -344,11 +549,12 @@ public static class RunReducer
 
         // Start: the plain parabolas' curvatures give z0 and the constant through the near-contact law.
         var curvature = parabolas.Select(p => p.Curvature).ToArray();
-        (double z0s, double qStart) = NearContactStart(piezo, curvature, sign * c.Scale, c.Radius, power: frequency ? 2 : 1);
+        (double z0s, double qStart) = NearContactStart(piezo, curvature, parabolas.Select(p => p.CurvatureSigma).ToArray(), sign * c.Scale, c.Radius, power: frequency ? 2 : 1);
         var start = new double[shared + 2 * np];
         start[0] = z0s;
         if (fitConstant) start[iConstant] = qStart;
         start[iW] = rateStart;
+        if (fitLag) start[iLag] = c.Lag;
         double constantStart = Calibration(start).K;
         double toValue = frequency ? constantStart : -constantStart; // vertex in signal units -> F' or F
         for (int j = 0; j < np; j++)
@@ -363,13 +569,29 @@ public static class RunReducer
         double ModelAt(int i, double[] p)
         {
             var q = Calibration(p);
+            StepPoint st = steps[i];
             int j = position[i];
-            double aj = Gap(q, steps[i].Piezo, time[j]);
-            double a = Gap(q, steps[i].Piezo, steps[i].Time) - q.M * obs[i];
-            double rho = curve.Value(a) / curve.Value(aj);
-            double dv = steps[i].Bias - p[shared + np + j] - q.W * (steps[i].Time - time[j]);
-            double force = p[shared + j] * rho + Electric(a) * dv * dv;
-            return frequency ? force / q.K : -force / q.K;
+            double aj = Gap(q, piezo[j], time[j]);
+            // V0 follows the actual separation within a position along the run's V0 slope (physics.md: use the local
+            // value): in deflection mode the sphere moves by up to ~10 nm with the bias, which at 2 mV/um moves V0 by
+            // ~20 uV, an odd-order term that would shift the vertex. V0_j belongs to the resting separation at V = V0,
+            // a* = a_j − m u* with u* = −C_j / (k m).
+            double resting = aj + q.M * p[shared + j] / q.K;
+            double dv0 = st.Bias - p[shared + np + j] - q.W * (st.Time - time[j]);
+            double At(double reading)
+            {
+                double a = Gap(q, reading, st.Time) - q.M * obs[i];
+                double dv = dv0 - v0Slope * (a - resting);
+                double force = p[shared + j] * curve.Value(a) / curve.Value(aj) + Electric(a) * dv * dv;
+                return frequency ? force / q.K : -force / q.K;
+            }
+            // The observation's own move with the track's basis, obs(theta) = obs(basis) + G (theta − basis), is carried on
+            // the model's side.
+            double trackMove = obsByGap is null ? 0 : obsByGap[i] * (q.Z0 - sensitivity!.GapOffset) + obsByConstant![i] * (q.K - sensitivity.Constant);
+            if (st.Spread == 0 && st.Speed == 0) return At(st.Piezo) - trackMove;
+            // A ramp window (RampWindows): the two-point average over its readings, shifted back by the signal's lag.
+            double shift = (fitLag ? p[iLag] : c.Lag) * st.Speed, half = Math.Sqrt(st.Spread * st.Spread + shift * shift);
+            return 0.5 * (At(st.Piezo - shift + half) + At(st.Piezo - shift - half)) - trackMove;
         }
         // Generalised least squares with the full covariance of the observations: noise, the free signal's shared
         // errors and random walk, and the recorded channels' readout errors carried through
@@ -401,18 +623,26 @@ public static class RunReducer
                 dPiezo[i] = (up - down) / (2 * hp);
                 steps[i] = st;
                 total[i, i] += dBias[i] * dBias[i] * st.BiasSigma * st.BiasSigma;
+                if (!prepared.PiezoShared) total[i, i] += dPiezo[i] * dPiezo[i] * st.PiezoSigma * st.PiezoSigma;
             }
-            foreach (int[] g in groups)
-                foreach (int i in g) foreach (int q in g) total[i, q] += dPiezo[i] * dPiezo[q] * steps[i].PiezoSigma * steps[i].PiezoSigma;
+            if (prepared.PiezoShared)
+                foreach (int[] g in groups)
+                    foreach (int i in g) foreach (int q in g) total[i, q] += dPiezo[i] * dPiezo[q] * steps[i].PiezoSigma * steps[i].PiezoSigma;
             return total;
         }
-        var options = new FitOptions(1e-10, 1e-15, 500);
+        // A systematic variation needs its shift to a small fraction of the parameters' sigmas (relative steps below
+        // 1e-7 are far below that); the nominal fit is taken to rounding.
+        var options = variation ? new FitOptions(1e-7, 1e-12, 500) : new FitOptions(1e-10, 1e-15, 500);
         if (from is not null) start = (double[])from.Clone();
-        FitResult fit = LevenbergMarquardt.FitCorrelated(Vector, y, Covariance(start), start, options);
+        // A position's two parameters move only its own points (a sparse Jacobian: 2 + 5 model passes, not 2 np + 5).
+        var rowsOf = new int[]?[start.Length];
+        for (int j = 0; j < np; j++) rowsOf[shared + j] = rowsOf[shared + np + j] = groups[j];
+        FitResult Fit(double[] at, double[,] covariance) => LevenbergMarquardt.FitCorrelated(Vector, y, covariance, at, options, (p, i) => ModelAt(i, p), rowsOf);
+        FitResult fit = Fit(start, Covariance(start));
         // From the plain start, refitted with the covariance at the solution. A systematic variation (or a later pass)
         // starts at the solution before it, takes the covariance there and fits once: the covariance moves only at
         // second order in the variation.
-        if (from is null) fit = LevenbergMarquardt.FitCorrelated(Vector, y, Covariance(fit.Parameters), fit.Parameters, options);
+        if (from is null) fit = Fit(fit.Parameters, Covariance(fit.Parameters));
         double[] theta = fit.Parameters;
         double[,] thetaCov = fit.Covariance;
 
@@ -503,12 +733,14 @@ public static class RunReducer
         if (fitM) fitted.Add("m");
         fitted.Add("gap drift");
         fitted.Add("V0 drift");
+        if (fitLag) fitted.Add("signal lag");
         Estimate Stat(double v, double variance) => new(v, Math.Sqrt(Math.Max(variance, 0)), Math.Sqrt(Math.Max(variance, 0)));
         var calibration = new RunCalibration(Stat(cal.Z0, joint[np, np]), Stat(k, varK), frequency ? null : Stat(cal.M, joint[np + 2, np + 2]),
             fit.ChiSquare, fit.DegreesOfFreedom, fit.Stop, fitted)
         {
             GapDrift = Stat(cal.V, joint[np + 3, np + 3]),
             ResidualPotentialDrift = Stat(cal.W, joint[np + 4, np + 4]),
+            SignalLag = fitLag ? Stat(theta[iLag], thetaCov[iLag, iLag]) : null,
             ReferenceTime = tMid,
         };
         return new State(calibration, positions, separation, value, slope, time, random, calSource, v0Cov, correction, newShape, cal.Z0, cal.K, cal.M, theta);
@@ -526,14 +758,16 @@ public static class RunReducer
         : 1 + amplitude * amplitude / 8 * smooth.SecondOverValue(a);
 
     // Start of the calibration from the near-contact laws (physics.md): the curvature is c = pi eps0 R / (q a^power)
-    // with power 2 for the gradient (q = k) and 1 for the force (q = k m), so c^(-1/power) is linear in the reading.
-    private static (double Z0, double Q) NearContactStart(double[] piezo, double[] curvature, double direction, double radius, int power)
+    // with power 2 for the gradient (q = k) and 1 for the force (q = k m), so c^(-1/power) is linear in the reading;
+    // the line weighted by each curvature's uncertainty carried through, sigma_w = sigma_c c^(-1/power − 1) / power.
+    private static (double Z0, double Q) NearContactStart(double[] piezo, double[] curvature, double[] curvatureSigma, double direction, double radius, int power)
     {
         const double eps0 = 8.8541878128e-12; // CODATA 2018, for the starting value only
-        var idx = Enumerable.Range(0, piezo.Length).Where(j => curvature[j] > 0).ToArray();
+        var idx = Enumerable.Range(0, piezo.Length).Where(j => curvature[j] > 0 && curvatureSigma[j] > 0 && curvatureSigma[j] < curvature[j]).ToArray();
         double[] x = idx.Select(j => piezo[j]).ToArray(), w = idx.Select(j => Math.Pow(curvature[j], -1.0 / power)).ToArray();
+        double[] sw = idx.Select(j => curvatureSigma[j] * Math.Pow(curvature[j], -1.0 / power - 1) / power).ToArray();
         if (x.Length < 2) return (100e-9, 1);
-        FitResult line = LinearLeastSquares.Polynomial(x, w, 1);
+        FitResult line = LinearLeastSquares.Polynomial(x, w, 1, sw);
         double b0 = line.Parameters[0], b1 = line.Parameters[1];
         // w = (q / (pi eps0 R))^(1/power) (z0 + d s p): b1 = (q/(pi eps0 R))^(1/power) d s.
         double q = Math.PI * eps0 * radius * Math.Pow(b1 / direction, power);
@@ -570,8 +804,9 @@ public static class RunReducer
 
     // ---------------------------------------------------------------- shared pieces
 
-    // Covariance of the steps' observables: own noise plus the free signal's shared errors and random walk.
-    private static double[,] StepCovariance(StepPoint[] steps, double[] noise, double[] dFree, FreeSignalTrack track)
+    // Covariance of the steps' observables: own noise (correlated between neighbouring ramp windows) plus the free
+    // signal's shared errors and random walk.
+    private static double[,] StepCovariance(StepPoint[] steps, double[] noise, double[] dFree, FreeSignalTrack track, (int I, int L, double Rho)[] correlated)
     {
         int n = steps.Length;
         var c = new double[n, n];
@@ -584,6 +819,12 @@ public static class RunReducer
                 c[i, l] += v;
                 if (l != i) c[l, i] += v;
             }
+        }
+        foreach ((int i, int l, double rho) in correlated)
+        {
+            double v = noise[i] * noise[l] * rho;
+            c[i, l] += v;
+            c[l, i] += v;
         }
         return c;
     }

@@ -59,6 +59,9 @@ public sealed record RunCalibration(Estimate GapOffset, Estimate SpringConstant,
     /// <summary>Fitted drift of V0 with time within the run (V/s).</summary>
     public Estimate? ResidualPotentialDrift { get; init; }
 
+    /// <summary>The recorded signal's first-order lag time (s) measured from approach against retract (distance-ramps only).</summary>
+    public Estimate? SignalLag { get; init; }
+
     /// <summary>The time (s, in the data file's clock) at which z0 is quoted: the mean time of the run's steps.</summary>
     public double ReferenceTime { get; init; }
 

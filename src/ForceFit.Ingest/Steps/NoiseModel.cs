@@ -43,6 +43,28 @@ public sealed class NoiseModel
         return Math.Sqrt(Math.Max(sum, _c[0] / n) / n);
     }
 
+    /// <summary>Autocovariance C(k) of the noise; zero beyond the summation window.</summary>
+    public double Autocovariance(int lag) => lag < 0 ? Autocovariance(-lag) : lag <= Window && lag < _c.Length ? _c[lag] : 0;
+
+    /// <summary>
+    /// Covariance of the means of two blocks of consecutive samples, n1 samples then (after <paramref name="gap"/>
+    /// samples not in either) n2 samples: (1/(n1 n2)) Sum_i Sum_j C(j − i), the pairs counted by lag.
+    /// </summary>
+    public double CovarianceOfMeans(int n1, int gap, int n2)
+    {
+        if (n1 <= 0 || n2 <= 0) return 0;
+        double sum = 0;
+        // Lag L between sample i of the first block (counted back from its end, a = 1..n1) and sample j of the second
+        // (j = 0..n2−1): L = a + gap + j. Pairs with lag L: the a in [max(1, L − gap − n2 + 1), min(n1, L − gap)].
+        int last = Math.Min(Window, n1 + gap + n2 - 1);
+        for (int lag = gap + 1; lag <= last; lag++)
+        {
+            int lo = Math.Max(1, lag - gap - n2 + 1), hi = Math.Min(n1, lag - gap);
+            if (hi >= lo) sum += (hi - lo + 1) * Autocovariance(lag);
+        }
+        return sum / ((double)n1 * n2);
+    }
+
     /// <summary>Accumulates per-step lag products; <see cref="Build"/> pools them.</summary>
     public sealed class Accumulator(int maxLag)
     {

@@ -89,7 +89,13 @@ public static class RunSteps
         if (segmenter is null) throw new InputException(new Problem(run.DataFile, null, "the file has a header but no data rows"));
         segmenter.Finish();
         warnings.AddRange(source.Warnings);
-        NoiseModel model = noise.Build() ?? throw new InputException(new Problem(run.DataFile, null,
+        NoiseModel? built = noise.Build();
+        if (built is null && segmenter is RampSegmenter ramps && ramps.BinNoise.Build() is { } fromBins)
+        {
+            built = fromBins;
+            warnings.Add($"{run.DataFile}: no hold of the piezo (at least 16 samples after 'settle') at the start of any bias: the noise model comes from the gap bins, which are shorter than the noise's correlation, so the uncertainties are too small");
+        }
+        NoiseModel model = built ?? throw new InputException(new Problem(run.DataFile, null,
             "too few samples after the settle time to estimate the noise: are the steps shorter than 'settle'?"));
         var segments = pending.Select((r, i) => new SegmentStatistics(run.Name, i, r.Kind, r.Start, r.End, r.Piezo, r.Bias, r.Mean,
             model.SigmaOfMean(r.N), r.NaiveSigma, r.N, r.Clipped, r.FirstLine, r.MeanTime)).ToArray();
@@ -120,9 +126,9 @@ public static class RunSteps
         protected bool IsReference(double piezo) => Run.Instrument.ReferenceBeyond is { } beyond
             && (Run.Piezo.Direction == PiezoDirection.Away ? piezo > beyond.Value : piezo < beyond.Value);
 
-        /// <summary>Clips glitches, records residuals for the noise model, and returns mean, naive sigma, n and clipped.</summary>
+        /// <summary>Clips glitches, records residuals for the noise model (the run's, or <paramref name="into"/>), and returns mean, naive sigma, n and clipped.</summary>
         [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
-        protected (double Mean, double Naive, int N, int Clipped) Summarise(ReadOnlySpan<double> values, Func<int, double>? trend = null, bool feedNoise = true)
+        protected (double Mean, double Naive, int N, int Clipped) Summarise(ReadOnlySpan<double> values, Func<int, double>? trend = null, NoiseModel.Accumulator? into = null)
         {
             int n = values.Length;
             if (n == 0) return (double.NaN, double.NaN, 0, 0);
@@ -168,7 +174,7 @@ public static class RunSteps
                 keptResidual[i] = r;
                 ss += r * r;
             }
-            if (feedNoise) _noise.Add(keptResidual[..kept], kept);
+            (into ?? _noise).Add(keptResidual[..kept], kept);
             return (mean, kept > 1 ? Math.Sqrt(ss / (kept - 1) / kept) : double.NaN, kept, clipped);
         }
     }
@@ -270,16 +276,20 @@ public static class RunSteps
     }
 
     /// <summary>
-    /// distance-ramps: segments of constant bias split into sweeps where the piezo reverses, samples binned by
-    /// piezo reading in bins of bin_width; within a bin the signal is detrended linearly in the reading for the
-    /// noise model, and the bin's mean signal belongs to its mean reading.
+    /// distance-ramps: segments of constant bias; a hold at the segment's start (the piezo still) is a step of its
+    /// own (a reference step beyond reference_beyond); the rest is split into sweeps where the piezo reverses, the
+    /// first settle seconds of every sweep dropped (the signal's lag after the turn), and the samples binned by piezo
+    /// reading in bins of bin_width; the bin's mean signal belongs to its mean reading.
     /// </summary>
     internal sealed class RampSegmenter : Segmenter
     {
         private readonly StepDetector _biasDetector;
         private readonly double _bin;
         private readonly double _reversal;
+        private readonly double _settle;
+        private readonly double _holdTolerance;
         private readonly List<(double T, double P, double V, double S, long Line)> _segment = [];
+        private readonly double[] _head = new double[32];
 
         public RampSegmenter(RunSettings run, StepThresholds thresholds, List<Raw> output, NoiseModel.Accumulator noise)
             : base(run, thresholds, output, noise)
@@ -288,10 +298,17 @@ public static class RunSteps
             _biasDetector = new StepDetector(thresholds with { Piezo = double.PositiveInfinity });
             _bin = run.BinWidth?.Value ?? throw new InvalidOperationException("bin_width is required for distance-ramps");
             _reversal = Math.Max(20 * thresholds.PiezoNoise, 2 * _bin);
-            _noiseFromReferences = run.Instrument.ReferenceBeyond is not null;
+            _settle = run.Settle?.Value ?? 0;
+            // The piezo has left a hold once it is further than 8 readout sigmas (or a tenth of a bin) from it.
+            _holdTolerance = Math.Max(8 * thresholds.PiezoNoise, 0.1 * _bin);
         }
 
-        private readonly bool _noiseFromReferences;
+        /// <summary>
+        /// Bins hold fewer samples than the noise's correlation time (a 2 nm bin at 40 nm/s is 0.05 s), so the noise
+        /// model comes from the holds, which are steps. Runs without holds fall back on the bins' residuals about
+        /// their linear trend, which see only the short-lag part of the correlation (their uncertainties are too small).
+        /// </summary>
+        public NoiseModel.Accumulator BinNoise { get; } = new(256);
 
         public override void Add(SampleBlock block)
         {
@@ -312,10 +329,12 @@ public static class RunSteps
         private void CloseSegment(int count)
         {
             if (count == 0) return;
+            int sweepStart = Hold(count);
+            if (sweepStart >= count) return;
             // Split at reversals of the piezo: a move back by more than the reversal distance from the running extreme.
-            int sweepStart = 0, direction = 0;
-            double extreme = _segment[0].P;
-            for (int i = 1; i < count; i++)
+            int direction = 0;
+            double extreme = _segment[sweepStart].P;
+            for (int i = sweepStart + 1; i < count; i++)
             {
                 double p = _segment[i].P;
                 if (direction == 0)
@@ -336,52 +355,34 @@ public static class RunSteps
             if (direction != 0) BinSweep(sweepStart, count, direction);
         }
 
-        // A gap bin holds fewer samples than the noise's correlation time (a 2 nm bin at 40 nm/s is 0.05 s), so the
-        // correlation cannot be seen inside bins. The noise model is taken instead from the sweep's consecutive samples
-        // beyond reference_beyond (the hold there and the far part of the ramp), where the signal is flat: residuals
-        // about their mean, as for steps. Without a reference region the bins themselves are used.
-        private void ReferenceNoise(int from, int to)
+        // The hold at the segment's start: samples whose reading stays within the tolerance of the first readings'
+        // median. Written as a step (after the settle time) when it keeps at least 16 samples; returns its end.
+        private int Hold(int count)
         {
-            int start = -1;
-            for (int i = from; i <= to; i++)
+            int m = Math.Min(_head.Length, count);
+            for (int i = 0; i < m; i++) _head[i] = _segment[i].P;
+            double p0 = Selection.Nth(_head.AsSpan(0, m), m / 2);
+            int end = 0;
+            while (end < count && Math.Abs(_segment[end].P - p0) <= _holdTolerance) end++;
+            double start = _segment[0].T;
+            int first = 0;
+            while (first < end && _segment[first].T < start + _settle - 1e-12) first++;
+            int kept = end - first;
+            if (kept < 16) return end;
+            double[] values = new double[kept];
+            double sumP = 0, sumV = 0, sumT = 0;
+            for (int i = first; i < end; i++)
             {
-                bool reference = i < to && IsReference(_segment[i].P);
-                if (reference && start < 0) start = i;
-                if (reference || start < 0) continue;
-                // In blocks of at most 512 samples (about a step), so that the slow walk of the free signal,
-                // which the free-signal track carries, does not enter the short-time noise.
-                int blocks = (i - start + 511) / 512;
-                for (int b = 0; b < blocks; b++)
-                    ReferenceBlock(start + (i - start) * b / blocks, start + (i - start) * (b + 1) / blocks);
-                start = -1;
+                values[i - first] = _segment[i].S;
+                sumP += _segment[i].P;
+                sumV += _segment[i].V;
+                sumT += _segment[i].T;
             }
-        }
-
-        // Residuals of samples [start, end) about their mean, with the small slope of the signal against the reading
-        // there (the far tail of the forces) removed, into the noise model.
-        private void ReferenceBlock(int start, int end)
-        {
-            int n = end - start;
-            if (n < 3) return;
-            double meanP = 0, meanS = 0;
-            for (int k = start; k < end; k++)
-            {
-                meanP += _segment[k].P;
-                meanS += _segment[k].S;
-            }
-            meanP /= n;
-            meanS /= n;
-            double sxx = 0, sxy = 0;
-            for (int k = start; k < end; k++)
-            {
-                double dx = _segment[k].P - meanP;
-                sxx += dx * dx;
-                sxy += dx * (_segment[k].S - meanS);
-            }
-            double slope = sxx > 0 ? sxy / sxx : 0;
-            double[] values = new double[n];
-            for (int k = start; k < end; k++) values[k - start] = _segment[k].S;
-            Summarise(values, k => slope * (_segment[start + k].P - meanP));
+            (double mean, double naive, int n, int clipped) = Summarise(values);
+            double piezo = sumP / kept;
+            Output.Add(new Raw(IsReference(piezo) ? SegmentKind.Reference : SegmentKind.Step, start, _segment[end - 1].T, piezo, sumV / kept,
+                mean, naive, n, clipped, _segment[0].Line, sumT / kept));
+            return end;
         }
 
         private int LastIndexOfExtreme(int from, int to, int direction)
@@ -393,7 +394,10 @@ public static class RunSteps
 
         private void BinSweep(int from, int to, int direction)
         {
-            if (_noiseFromReferences) ReferenceNoise(from, to);
+            // The first settle seconds after the start or the turn are dropped: the lagging signal still carries the
+            // previous motion there.
+            double start = _segment[from].T;
+            while (from < to && _segment[from].T < start + _settle - 1e-12) from++;
             // Gap decreases toward the plate: with "away" a decreasing reading is an approach.
             bool towardPlate = (Run.Piezo.Direction == PiezoDirection.Away) == (direction < 0);
             SegmentKind kind = towardPlate ? SegmentKind.Approach : SegmentKind.Retract;
@@ -409,7 +413,7 @@ public static class RunSteps
             {
                 if (idx.Count < 3) continue;
                 double meanP = idx.Average(i => _segment[i].P);
-                // Linear trend of the signal in the reading within the bin.
+                // Linear trend of the signal in the reading within the bin (for the fallback noise model only).
                 double sxx = 0, sxy = 0, meanS = idx.Average(i => _segment[i].S);
                 foreach (int i in idx)
                 {
@@ -419,8 +423,8 @@ public static class RunSteps
                 }
                 double slope = sxx > 0 ? sxy / sxx : 0;
                 double[] values = idx.Select(i => _segment[i].S).ToArray();
-                (double mean, double naive, int n, int clipped) = Summarise(values, k => slope * (_segment[idx[k]].P - meanP), feedNoise: !_noiseFromReferences);
-                Output.Add(new Raw(IsReference(meanP) ? SegmentKind.Reference : kind, _segment[idx[0]].T, _segment[idx[^1]].T, meanP,
+                (double mean, double naive, int n, int clipped) = Summarise(values, k => slope * (_segment[idx[k]].P - meanP), into: BinNoise);
+                Output.Add(new Raw(kind, _segment[idx[0]].T, _segment[idx[^1]].T, meanP,
                     idx.Average(i => _segment[i].V), mean, naive, n, clipped, _segment[idx[0]].Line, idx.Average(i => _segment[i].T)));
             }
         }

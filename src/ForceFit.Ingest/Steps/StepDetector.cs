@@ -8,9 +8,10 @@ namespace ForceFit.Ingest.Steps;
 public sealed record StepThresholds(double Piezo, double Bias, double PiezoNoise, double BiasNoise)
 {
     /// <summary>
-    /// Thresholds from the first samples: the readout noise is the median absolute first difference / (0.6745 sqrt 2)
-    /// (robust against the few jumps), and a new level needs a change of 8 noise sigmas (so that false splits from
-    /// noise are vanishingly rare) but never less than 1e-13 m or 1e-7 V, the written resolution of typical files.
+    /// Thresholds from the first samples: the readout noise is the median absolute second difference / (0.6745 sqrt 6)
+    /// (robust against the few jumps, and blind to a steady motion such as a ramp's), and a new level needs a change of
+    /// 8 noise sigmas (so that false splits from noise are vanishingly rare) but never less than 1e-13 m or 1e-7 V, the
+    /// written resolution of typical files.
     /// </summary>
     public static StepThresholds Estimate(ReadOnlySpan<double> piezo, ReadOnlySpan<double> bias)
     {
@@ -18,13 +19,14 @@ public sealed record StepThresholds(double Piezo, double Bias, double PiezoNoise
         return new StepThresholds(Math.Max(8 * sp, 1e-13), Math.Max(8 * sv, 1e-7), sp, sv);
     }
 
+    // x[i+1] − 2 x[i] + x[i−1] of white noise sigma has sd sigma sqrt 6; its median absolute value is 0.6745 of that.
     private static double RobustDifferenceSigma(ReadOnlySpan<double> x)
     {
-        if (x.Length < 3) return 0;
-        var d = new double[x.Length - 1];
-        for (int i = 1; i < x.Length; i++) d[i - 1] = Math.Abs(x[i] - x[i - 1]);
+        if (x.Length < 4) return 0;
+        var d = new double[x.Length - 2];
+        for (int i = 1; i + 1 < x.Length; i++) d[i - 1] = Math.Abs(x[i + 1] - 2 * x[i] + x[i - 1]);
         double median = Selection.Nth(d, d.Length / 2);
-        return median / (0.6745 * Math.Sqrt(2));
+        return median / (0.6745 * Math.Sqrt(6));
     }
 }
 

@@ -100,11 +100,15 @@ public static class NightFigures
         var positions = run.Positions.OrderBy(p => p.Separation).ToArray();
         var chosen = new[] { positions[0], positions[positions.Length / 2], positions[^1] }.Distinct().ToArray();
         double k = run.Calibration.SpringConstant.Value, m = run.Calibration.Sensitivity?.Value ?? 1;
-        double threshold = segments.Thresholds.Piezo;
+        // Ramps: the approach and retract bins within one bin width of the window's mean reading.
+        bool ramps = segments.Run.Protocol == Protocol.DistanceRamps;
+        double threshold = ramps ? segments.Run.BinWidth?.Value ?? 0 : segments.Thresholds.Piezo;
+        bool Shown(SegmentKind kind) => ramps ? kind is SegmentKind.Approach or SegmentKind.Retract : kind == SegmentKind.Step;
         for (int c = 0; c < chosen.Length; c++)
         {
             PositionFit p = chosen[c];
-            var steps = segments.Segments.Where(s => s.Kind == SegmentKind.Step && Math.Abs(s.Piezo - p.Piezo) < threshold).ToArray();
+            var steps = segments.Segments.Where(s => Shown(s.Kind) && Math.Abs(s.Piezo - p.Piezo) < threshold).ToArray();
+            if (steps.Length == 0) continue;
             // Signal to physics (physics.md): F' = k (1 − (f/f0(t))^2), or F = −k m (S − S_free(t)).
             double[] v = steps.Select(s => s.Bias).ToArray();
             double[] y = steps.Select(s => r.Frequency
@@ -124,7 +128,8 @@ public static class NightFigures
         }
         plot.ShowLegend(Alignment.UpperCenter);
         return FigureKit.Render(plot, "parabolas", "Bias parabolas",
-            "Steps at the nearest, a middle and the farthest position of the first run, converted to physical units with the run's calibration, and the fitted parabolas (vertex at V0).");
+            ramps ? "Approach and retract bins within one bin width of the nearest, a middle and the farthest window of the first run, converted to physical units with the run's calibration, and the fitted parabolas of the windows (vertex at V0)."
+                : "Steps at the nearest, a middle and the farthest position of the first run, converted to physical units with the run's calibration, and the fitted parabolas (vertex at V0).");
     }
 
     // V0 of every position against x (separation in nm or time in h), one colour per run.

@@ -9,11 +9,9 @@ namespace ForceFit.Analysis.Tests.Reduction;
 /// <summary>
 /// The calibration of deflection-mode voltage-step runs against injected truth: 20 simulated nights with every
 /// imperfection on (including true inputs drawn from their statements). The pulls of z0, k and m must have rms in
-/// [0.8, 1.25] and mean within ±0.3 (issue acceptance). Not asserted, printed: the calibration chi-square per degree
-/// of freedom and how often the reduced force agrees with the true curve (p > 0.01). In this mode both show an excess
-/// (chi2/dof near 1.2, agreement in 16 of 20 nights, against the 90% the issue asks): a known open problem whose
-/// cause is not found yet (the per-step deflection is in the model and the settling tail is negligible; the step
-/// uncertainties of the deflection signal are the next suspect).
+/// [0.8, 1.25] and mean within ±0.3, and the reduced force must agree with the true curve (p > 0.01) in at least 90%
+/// of the nights (issue acceptance). Measured: chi2/dof 1.02 and 18 of 20, since V0 follows the sphere's deflected gap
+/// within a position and the free signal's dependence on the calibration is fitted (chi2/dof 1.19 and 16 of 20 before).
 /// </summary>
 public sealed class DeflectionCalibrationPullTests : TemporaryFolderTest
 {
@@ -32,6 +30,8 @@ public sealed class DeflectionCalibrationPullTests : TemporaryFolderTest
         using var scope = Assert.EnterMultipleScope();
         Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("m", pulls.Select(p => p.M)));
         int agree = pulls.Count(p => p.CurveP > 0.01);
-        TestContext.Out.WriteLine($"calibration chi2/dof: mean {pulls.Average(p => p.Chi2PerDof):F3}; force against the true curve p > 0.01 in {agree} of {Seeds} (not asserted: open problem)");
+        TestContext.Out.WriteLine($"calibration chi2/dof: mean {pulls.Average(p => p.Chi2PerDof):F3}; force against the true curve p > 0.01 in {agree} of {Seeds}");
+        Assert.That(agree, Is.GreaterThanOrEqualTo(18), "the reduced force agrees with the true curve in at least 90% of nights");
+        Assert.That(pulls.Average(p => p.Chi2PerDof), Is.InRange(0.85, 1.15), "calibration chi2 per degree of freedom");
     }
 }
