@@ -1,3 +1,4 @@
+using ForceFit.Core.Numerics;
 using MathNet.Numerics.LinearAlgebra;
 
 namespace ForceFit.Fitting;
@@ -131,27 +132,11 @@ public static class Matrices
         return l;
     }
 
-    /// <summary>Sum of x[i] y[i], the machine's vector width at a time.</summary>
-    public static double Dot(ReadOnlySpan<double> x, ReadOnlySpan<double> y)
-    {
-        int n = x.Length, width = System.Numerics.Vector<double>.Count, i = 0;
-        var acc = System.Numerics.Vector<double>.Zero;
-        for (; i + width <= n; i += width)
-            acc += new System.Numerics.Vector<double>(x[i..]) * new System.Numerics.Vector<double>(y[i..]);
-        double s = System.Numerics.Vector.Sum(acc);
-        for (; i < n; i++) s += x[i] * y[i];
-        return s;
-    }
+    /// <summary>Sum of x[i] y[i] (<see cref="VectorKernels.Dot"/>).</summary>
+    public static double Dot(ReadOnlySpan<double> x, ReadOnlySpan<double> y) => VectorKernels.Dot(x, y);
 
-    /// <summary>y ← y − a x, the machine's vector width at a time.</summary>
-    public static void SubtractScaled(Span<double> y, double a, ReadOnlySpan<double> x)
-    {
-        int n = y.Length, width = System.Numerics.Vector<double>.Count, i = 0;
-        var va = new System.Numerics.Vector<double>(a);
-        for (; i + width <= n; i += width)
-            (new System.Numerics.Vector<double>(y[i..]) - va * new System.Numerics.Vector<double>(x[i..])).CopyTo(y[i..]);
-        for (; i < n; i++) y[i] -= a * x[i];
-    }
+    /// <summary>y ← y − a x (<see cref="VectorKernels.SubtractScaled"/>).</summary>
+    public static void SubtractScaled(Span<double> y, double a, ReadOnlySpan<double> x) => VectorKernels.SubtractScaled(y, a, x);
 
     /// <summary>
     /// Splits the covariance of a parameter vector partitioned into "local" indices and "shared" indices:

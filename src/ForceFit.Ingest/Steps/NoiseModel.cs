@@ -90,18 +90,7 @@ public sealed class NoiseModel
             _steps.Add((stepCount, n));
         }
 
-        // Sum of x[i] y[i], four (or the machine's vector width) products at a time.
-        [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
-        private static double Dot(ReadOnlySpan<double> x, ReadOnlySpan<double> y)
-        {
-            int n = x.Length, width = System.Numerics.Vector<double>.Count, i = 0;
-            var acc = System.Numerics.Vector<double>.Zero;
-            for (; i + width <= n; i += width)
-                acc += new System.Numerics.Vector<double>(x[i..]) * new System.Numerics.Vector<double>(y[i..]);
-            double s = System.Numerics.Vector.Sum(acc);
-            for (; i < n; i++) s += x[i] * y[i];
-            return s;
-        }
+        private static double Dot(ReadOnlySpan<double> x, ReadOnlySpan<double> y) => ForceFit.Core.Numerics.VectorKernels.Dot(x, y);
 
         /// <summary>Steps added.</summary>
         public int Steps => _steps.Count;
