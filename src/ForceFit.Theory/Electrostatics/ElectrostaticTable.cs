@@ -7,7 +7,7 @@ namespace ForceFit.Theory.Electrostatics;
 /// The exact sphere–plate electrostatic force and gradient per volt squared (<see cref="SpherePlateElectrostatics"/>),
 /// tabulated once on 3000 log-spaced gaps from 2 nm to 60 um and read by cubic Hermite interpolation (relative error
 /// below 1e-11), so that fits can evaluate them millions of times. Outside the table: NaN.
-/// Other radii reuse the first table: the capacitance is C = eps0 R g(a/R) (Laplace's equation has no length scale),
+/// Radii within 5% reuse a tabulated one: the capacitance is C = eps0 R g(a/R) (Laplace's equation has no length scale),
 /// so F(a; R) = F(a R0/R; R0), F'(a; R) = (R0/R) F'(a R0/R; R0) and F''(a; R) = (R0/R)^2 F''(a R0/R; R0).
 /// </summary>
 public sealed class ElectrostaticTable
@@ -47,15 +47,25 @@ public sealed class ElectrostaticTable
     /// <summary>The sphere radius (m).</summary>
     public double Radius { get; }
 
-    /// <summary>The table for a radius (the first radius asked for is tabulated; the others are scaled views of it).</summary>
-    public static ElectrostaticTable For(double radius) => Cache.GetOrAdd(radius, r => new ElectrostaticTable(r, FirstTables(r)));
+    /// <summary>
+    /// The table for a radius: a scaled view of a tabulated radius within 5% (its systematic variations), so that the
+    /// gap range stays nearly the full 2 nm – 60 um; otherwise a new tabulation.
+    /// </summary>
+    public static ElectrostaticTable For(double radius) => Cache.GetOrAdd(radius, r => new ElectrostaticTable(r, BaseFor(r)));
 
-    private static readonly object FirstLock = new();
-    private static Tables? _first;
+    private static readonly object BaseLock = new();
+    private static readonly List<Tables> Bases = [];
 
-    private static Tables FirstTables(double radius)
+    private static Tables BaseFor(double radius)
     {
-        lock (FirstLock) return _first ??= new Tables(radius);
+        lock (BaseLock)
+        {
+            Tables? near = Bases.FirstOrDefault(b => Math.Abs(b.Radius / radius - 1) <= 0.05);
+            if (near is not null) return near;
+            var made = new Tables(radius);
+            Bases.Add(made);
+            return made;
+        }
     }
 
     // The base table's gap for gap a at this radius, or NaN outside the tabulated range (within the range of both).
