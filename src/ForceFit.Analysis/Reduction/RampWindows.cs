@@ -25,10 +25,9 @@ internal sealed record RampPoint(int Window, int Sweep, double Time, double Piez
 /// <param name="Correlated">Pairs of points of the same sweep whose noise is correlated, with the correlation.</param>
 /// <param name="Lag">The signal's first-order lag time (s) from the difference of approach and retract.</param>
 /// <param name="LagSigma">Its standard uncertainty (s).</param>
-/// <param name="Windows">Number of windows.</param>
 /// <param name="References">Each sweep's bins beyond reference_beyond gathered into one point (window −1): free-signal
 /// references at both ends of every bias's sweeps.</param>
-internal sealed record RampWindowSet(RampPoint[] Points, (int I, int L, double Rho)[] Correlated, double Lag, double LagSigma, int Windows, RampPoint[] References);
+internal sealed record RampWindowSet(RampPoint[] Points, (int I, int L, double Rho)[] Correlated, double Lag, double LagSigma, RampPoint[] References);
 
 /// <summary>
 /// distance-ramps (physics.md, the same electrostatic calibration as for steps): the gap bins of each sweep are gathered
@@ -62,7 +61,7 @@ internal static class RampWindows
             sweeps[^1].Add(bins[i]);
         }
         var measured = bins.Where(b => Measured(b.Piezo)).ToArray();
-        if (measured.Length == 0) return new RampWindowSet([], [], 0, 0, 0, []);
+        if (measured.Length == 0) return new RampWindowSet([], [], 0, 0, []);
         // Depth in bins from the nearest measured bin (0 nearest the plate) and the windows' edges in depth.
         long Key(double piezo) => (long)Math.Floor(piezo / bin);
         long nearestKey = sign > 0 ? measured.Min(b => Key(b.Piezo)) : measured.Max(b => Key(b.Piezo));
@@ -113,7 +112,7 @@ internal static class RampWindows
                 if (cov != 0) correlated.Add((i, l, cov / (points[i].Sigma * points[l].Sigma)));
             }
         (double lag, double lagSigma) = Lag(points, sweeps);
-        return new RampWindowSet(points.ToArray(), correlated.ToArray(), lag, lagSigma, edges.Length, references.ToArray());
+        return new RampWindowSet(points.ToArray(), correlated.ToArray(), lag, lagSigma, references.ToArray());
     }
 
     // Window edges in depth (bins): widths w0 g^i from w0 = 2 bins, g chosen so that TargetWindows windows span the

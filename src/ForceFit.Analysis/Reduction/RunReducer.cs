@@ -161,10 +161,9 @@ public static class RunReducer
     /// <param name="References">Reference steps (the free signal).</param>
     /// <param name="Correlated">Pairs of points with correlated noise (ramp windows of one sweep), with the correlation.</param>
     /// <param name="PiezoShared">True when a position's points share one mean reading (voltage steps), so its readout error is common.</param>
-    /// <param name="Lag">The signal's lag time measured from the ramps (s), 0 for steps.</param>
-    /// <param name="LagSigma">Its uncertainty (s).</param>
+    /// <param name="Lag">The signal's lag time measured from the ramps (s), 0 for steps: the start of its fit.</param>
     private sealed record Prepared(RunSegments Segments, StepPoint[] Steps, int[][] Groups, ReferencePoint[] References, (int I, int L, double Rho)[] Correlated,
-        bool PiezoShared, double Lag, double LagSigma);
+        bool PiezoShared, double Lag);
 
     private static Prepared Prepare(RunSegments segments, List<string> warnings)
     {
@@ -190,7 +189,7 @@ public static class RunReducer
             double sigma = segments.Thresholds.PiezoNoise / Math.Sqrt(total);
             foreach (int i in members) steps[i] = steps[i] with { Piezo = mean, PiezoSigma = sigma };
         }
-        return new Prepared(segments, steps, groups, references, [], true, 0, 0);
+        return new Prepared(segments, steps, groups, references, [], true, 0);
     }
 
     // Ramps: one point per sweep and window (RampWindows); a window is a position when it holds at least three
@@ -206,8 +205,7 @@ public static class RunReducer
         var keep = new List<int[]>();
         foreach (var window in byWindow)
         {
-            double[] biases = window.Select(i => set.Points[i].Bias).Order().ToArray();
-            int distinct = 1 + Enumerable.Range(1, biases.Length - 1).Count(k => biases[k] - biases[k - 1] > t.Bias);
+            int distinct = DistinctBiases(window.Select(i => set.Points[i].Bias), t.Bias);
             if (distinct >= 3) keep.Add(window.ToArray());
             else warnings.Add($"{segments.Run.DataFile}: the ramp window at piezo {set.Points[window.First()].Piezo * 1e9:F1} nm has {distinct} distinct bias(es); a parabola needs three, so it was left out");
         }
@@ -221,7 +219,7 @@ public static class RunReducer
         var correlated = set.Correlated.Where(c => newIndex.ContainsKey(c.I) && newIndex.ContainsKey(c.L)).Select(c => (newIndex[c.I], newIndex[c.L], c.Rho)).ToArray();
         if (set.LagSigma == 0)
             warnings.Add($"{segments.Run.DataFile}: the signal's lag could not be measured (no approach and retract at the same bias); taken as zero");
-        return new Prepared(segments, steps, groups, references, correlated, false, set.Lag, set.LagSigma);
+        return new Prepared(segments, steps, groups, references, correlated, false, set.Lag);
     }
 
     private static Core Compute(Prepared prepared, RunConstants c, Core? start, List<string>? warnings)
@@ -265,16 +263,15 @@ public static class RunReducer
         // The V0 slope against separation the model uses within positions: the previous pass's (0 at the very start).
         double v0Slope = start is null ? 0 : ResidualPotentialSlope(start.Positions, start.ResidualPotentialCovariance);
         // The free signal rebuilt from the references corrected with a calibration basis (its z0 and constant).
-        FreeSignalTrack TrackFrom(State basis, double slope)
+        (FreeSignalTrack Track, Estimate? ReferenceV0) TrackFrom(State basis, double slope)
         {
             // V0 at each reference's gap: measured at their mean gap a0 and carried along the run's V0 slope (references
             // from 1.6 to 2 um differ by ~0.4 mV at 2 mV/um), else the positions' V0 line extrapolated.
             double a0 = references.Average(r => ReferenceGap(r, basis, c, sign));
             Estimate? v0Reference = ReferencePotential(references, basis, c, electrostatics, sign, frequency, a0, slope);
-            if (ReferenceEquals(basis, state)) referencePotential = v0Reference;
-            Func<double, double> v0At = v0Reference is { } measured ? a => measured.Value + slope * (a - a0) : a => ResidualPotentialAt(basis, a);
-            return FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
-                CorrectedReference(r, basis, c, electrostatics, sign, frequency, v0At), r.Sigma)).ToArray());
+            Func<double, double> v0At = v0Reference is { } measured ? a => measured.Value + slope * (a - a0) : ResidualPotentialAlong(basis);
+            return (FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
+                CorrectedReference(r, basis, c, electrostatics, sign, frequency, v0At), r.Sigma)).ToArray()), v0Reference);
         }
         TrackSensitivity? sensitivity = start?.Sensitivity;
         for (int outer = 0; ; outer++)
@@ -287,13 +284,13 @@ public static class RunReducer
                 && Math.Abs(state.Kappa - previous.Kappa) < 0.02 * Math.Abs(state.Kappa) * state.Calibration.SpringConstant.StatisticalSigma / state.Calibration.SpringConstant.Value;
             if (outer + 1 >= maxPasses || (outer + 1 >= minPasses && settled)) break;
             if (!rebuilds) { previous = state; continue; }
-            track = TrackFrom(state, v0Slope);
+            (track, referencePotential) = TrackFrom(state, v0Slope);
             // The track depends on the calibration it was corrected with: the next fit sees that dependence (to first
             // order in z0 and the constant about this basis), so that f0(t) or S_free(t) and the calibration are
             // fitted consistently and the calibration's uncertainty carries the reference correction's.
             State basis = state;
             double basisSlope = v0Slope;
-            sensitivity = new TrackSensitivity((z0, kappa) => TrackFrom(basis with { GapOffset = z0, Kappa = kappa }, basisSlope), basis.GapOffset, basis.Kappa);
+            sensitivity = new TrackSensitivity((z0, kappa) => TrackFrom(basis with { GapOffset = z0, Kappa = kappa }, basisSlope).Track, basis.GapOffset, basis.Kappa);
             previous = state;
         }
         if (warnings is not null)
@@ -318,6 +315,13 @@ public static class RunReducer
             RandomCovariance, CalibrationSource, track, ResidualPotentialCovariance, AmplitudeCorrection, Shape, warnings) { Parameters = Parameters };
     }
 
+    // The number of distinct biases among values: sorted, a new one wherever the next is more than the threshold above.
+    private static int DistinctBiases(IEnumerable<double> values, double threshold)
+    {
+        double[] biases = values.Order().ToArray();
+        return biases.Length == 0 ? 0 : 1 + Enumerable.Range(1, biases.Length - 1).Count(k => biases[k] - biases[k - 1] > threshold);
+    }
+
     // Groups the steps by piezo reading (readings closer than the step threshold are one position) and keeps the
     // positions with at least three distinct biases; positions ordered by reading.
     private static int[][] Positions(StepPoint[] steps, StepThresholds thresholds, RunSettings run, List<string>? warnings)
@@ -332,8 +336,7 @@ public static class RunReducer
         var kept = new List<int[]>();
         foreach (List<int> group in groups)
         {
-            double[] biases = group.Select(i => steps[i].Bias).Order().ToArray();
-            int distinct = 1 + Enumerable.Range(1, biases.Length - 1).Count(k => biases[k] - biases[k - 1] > thresholds.Bias);
+            int distinct = DistinctBiases(group.Select(i => steps[i].Bias), thresholds.Bias);
             if (distinct >= 3) kept.Add(group.OrderBy(i => steps[i].Time).ToArray());
             else warnings?.Add($"{run.DataFile}: the position at piezo {steps[group[0]].Piezo * 1e9:F1} nm has {distinct} distinct bias(es); a parabola needs three, so it was left out");
         }
@@ -386,10 +389,8 @@ public static class RunReducer
     /// </summary>
     private static Estimate? ReferencePotential(ReferencePoint[] references, State s, RunConstants c, ElectrostaticTable e, int sign, bool frequency, double a0, double slope)
     {
-        double[] biases = references.Select(r => r.Bias).Order().ToArray();
-        int distinct = biases.Length == 0 ? 0 : 1 + Enumerable.Range(1, biases.Length - 1).Count(k => biases[k] - biases[k - 1] > 1e-3);
-        if (distinct < 3 || references.Length < 4) return null;
-        double v0 = ResidualPotentialAt(s, a0);
+        if (DistinctBiases(references.Select(r => r.Bias), 1e-3) < 3 || references.Length < 4) return null;
+        double v0 = ResidualPotentialAlong(s)(a0);
         double tm = references.Average(r => r.MeanTime);
         FitResult fit = null!;
         for (int it = 0; it < 8; it++)
@@ -454,12 +455,18 @@ public static class RunReducer
     private static double ResidualPotentialSlope(PositionFit[] positions, double[,] covariance) =>
         positions.Length < 3 ? 0 : ResidualPotentialLine(positions, covariance).Line.Parameters[1] is var b && double.IsFinite(b) ? b : 0;
 
-    private static double ResidualPotentialAt(State s, double a)
+    // V0 against gap along the positions' straight line, fitted once (for the reference correction only); with fewer
+    // than three positions their mean.
+    private static Func<double, double> ResidualPotentialAlong(State s)
     {
-        // Along the straight line (for the reference correction only); with fewer than three positions the mean.
-        if (s.Positions.Length < 3) return s.Positions.Average(p => p.ResidualPotential);
+        if (s.Positions.Length < 3)
+        {
+            double mean = s.Positions.Average(p => p.ResidualPotential);
+            return _ => mean;
+        }
         (FitResult line, double nearest) = ResidualPotentialLine(s.Positions);
-        return line.Parameters[0] + line.Parameters[1] * (a - nearest);
+        double b0 = line.Parameters[0], b1 = line.Parameters[1];
+        return a => b0 + b1 * (a - nearest);
     }
 
     // ---------------------------------------------------------------- the calibration fit (both modes)
@@ -490,19 +497,21 @@ public static class RunReducer
         var dFree = new double[n];
         var position = new int[n];
         for (int j = 0; j < np; j++) foreach (int i in groups[j]) position[i] = j;
+        // The linear observable: y = 1 − (f/f0)^2, or u = S − S_free.
+        double Observable(double f, double free) => frequency ? 1 - f / free * (f / free) : f - free;
         for (int i = 0; i < n; i++)
         {
             double free = track.At(steps[i].Time), f = steps[i].Signal;
+            obs[i] = Observable(f, free);
             if (frequency)
             {
-                // y = 1 − (f/f0)^2, dy/df = −2f/f0^2, dy/df0 = 2 f^2/f0^3.
-                obs[i] = 1 - f / free * (f / free);
+                // dy/df = −2f/f0^2, dy/df0 = 2 f^2/f0^3.
                 noise[i] = 2 * f / (free * free) * steps[i].SignalSigma;
                 dFree[i] = 2 * f * f / (free * free * free);
             }
             else
             {
-                obs[i] = f - free; // u = S − S_free, du/dS_free = −1
+                // du/dS_free = −1
                 noise[i] = steps[i].SignalSigma;
                 dFree[i] = -1;
             }
@@ -512,11 +521,7 @@ public static class RunReducer
         double[]? obsByGap = null, obsByConstant = null;
         if (sensitivity is not null)
         {
-            double[] ObsWith(FreeSignalTrack t) => steps.Select(st =>
-            {
-                double free = t.At(st.Time);
-                return frequency ? 1 - st.Signal / free * (st.Signal / free) : st.Signal - free;
-            }).ToArray();
+            double[] ObsWith(FreeSignalTrack t) => steps.Select(st => Observable(st.Signal, t.At(st.Time))).ToArray();
             double hz = 1e-11, hk = 1e-4 * Math.Abs(sensitivity.Constant);
             double[] zUp = ObsWith(sensitivity.For(sensitivity.GapOffset + hz, sensitivity.Constant)), zDown = ObsWith(sensitivity.For(sensitivity.GapOffset - hz, sensitivity.Constant));
             double[] kUp = ObsWith(sensitivity.For(sensitivity.GapOffset, sensitivity.Constant + hk)), kDown = ObsWith(sensitivity.For(sensitivity.GapOffset, sensitivity.Constant - hk));
