@@ -40,6 +40,9 @@ public sealed class SampleSourceTests : TemporaryFolderTest
     }
 
     [TestCase("t,zp,Ub,f_pll\n0.0,300,20,25000\n0.1,300,x20,25000\n", 3, "column 'Ub': 'x20' is not a number")]
+    [TestCase("t,zp,Ub,f_pll\n0.0,300,20,25000\n0.1,300.25.5,20,25000\n", 3, "column 'zp': '300.25.5' is not a number")]
+    [TestCase("t,zp,Ub,f_pll\n0.0,300,20,25000\n0.1,300,-,25000\n", 3, "column 'Ub': '-' is not a number")]
+    [TestCase("t,zp,Ub,f_pll\n0.0,300,20,25000\n0.1,300,20,2500a.25\n", 3, "column 'f_pll': '2500a.25' is not a number")]
     [TestCase("t,zp,Ub,f_pll\n0.0,300,20,NaN\n0.1,300,20,25000\n", 2, "column 'f_pll': 'NaN' is not a finite number")]
     [TestCase("t,zp,Ub,f_pll\n0.0,300,20,Infinity\n0.1,300,20,25000\n", 2, "column 'f_pll': 'Infinity' is not a finite number")]
     [TestCase("t,zp,Ub,f_pll\n0.0,300,20,25000\n0.0,300,20,25000\n", 3, "column 't': time does not increase (0 after the value on line 2)")]
