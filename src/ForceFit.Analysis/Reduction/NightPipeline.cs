@@ -50,21 +50,50 @@ public static class NightPipeline
             throw new InputException(new Problem(night.Folder, null, "the night mixes frequency-shift and deflection runs; reduce them separately"));
         long totalBytes = night.Runs.Sum(r => new FileInfo(r.DataFile).Length), doneBytes = 0;
         var segments = new RunSegments[night.Runs.Count];
-        for (int i = 0; i < segments.Length; i++)
-        {
-            long before = doneBytes;
-            segments[i] = RunSteps.Read(night.Runs[i], new Relay<long>(b => progress?.Report(new StageProgress("ingest", before + b, totalBytes, night.Runs[i].Name))), cancel);
-            doneBytes += new FileInfo(night.Runs[i].DataFile).Length;
-        }
         var results = new RunResult[segments.Length];
+        // Each run's calibration starts as soon as its steps are read, while the next run is read: reading is only
+        // partly parallel, the calibrations fill the rest of the cores. Calibration progress is shown once reading ends.
+        var calibrations = new List<Task>();
+        var gate = new Lock();
         int reduced = 0;
+        bool reading = true;
+        void Calibrated(int i)
+        {
+            lock (gate)
+            {
+                reduced++;
+                if (!reading) progress?.Report(new StageProgress("calibration", reduced, segments.Length, segments[i].Run.Name));
+            }
+        }
         try
         {
-            Parallel.For(0, segments.Length, new ParallelOptions { CancellationToken = cancel }, i =>
+            for (int i = 0; i < segments.Length; i++)
             {
-                results[i] = RunReducer.Reduce(segments[i]);
-                progress?.Report(new StageProgress("calibration", Interlocked.Increment(ref reduced), segments.Length, segments[i].Run.Name));
-            });
+                long before = doneBytes;
+                segments[i] = RunSteps.Read(night.Runs[i], new Relay<long>(b => progress?.Report(new StageProgress("ingest", before + b, totalBytes, night.Runs[i].Name))), cancel);
+                doneBytes += new FileInfo(night.Runs[i].DataFile).Length;
+                int run = i;
+                calibrations.Add(Task.Run(() =>
+                {
+                    results[run] = RunReducer.Reduce(segments[run]);
+                    Calibrated(run);
+                }, CancellationToken.None));
+            }
+        }
+        catch
+        {
+            // A run that cannot be read stops the night; the calibrations already started are waited for, not left running.
+            try { Task.WaitAll(calibrations); } catch (AggregateException) { }
+            throw;
+        }
+        lock (gate)
+        {
+            reading = false;
+            if (reduced > 0) progress?.Report(new StageProgress("calibration", reduced, segments.Length, "runs"));
+        }
+        try
+        {
+            Task.WaitAll(calibrations);
         }
         catch (AggregateException e) when (e.InnerExceptions.All(x => x is InputException))
         {

@@ -138,6 +138,9 @@ public static class RunReducer
 
         /// <summary>The calibration fit's parameters (the start of a systematic variation).</summary>
         public double[] Parameters { get; init; } = [];
+
+        /// <summary>The last pass (the basis a systematic variation rebuilds its free signal from).</summary>
+        public State? Final { get; init; }
     }
 
     /// <summary>A step ready for fitting.</summary>
@@ -253,11 +256,17 @@ public static class RunReducer
         State state = default!;
         // Passes alternate the calibration fit and the free signal rebuilt from the references corrected with it, until
         // z0 and the instrument constant move by less than 2% of their statistical sigmas (at least three passes for the
-        // nominal reduction, which also refines the curve shape). A variation starts from the nominal result with one
-        // pass and rebuilds f0(t) likewise: every constant moves the reference correction (the piezo scale moves a
-        // reference gap of 2 um by 10 nm per 0.5%, which in deflection mode moves S_free by far more than its noise).
+        // nominal reduction, which also refines the curve shape). Every constant moves the reference correction (the
+        // piezo scale moves a reference gap of 2 um by 10 nm per 0.5%, which in deflection mode moves S_free by far more
+        // than its noise), so a variation rebuilds f0(t) with its constants about the nominal calibration first, and the
+        // fit carries the track's dependence on z0 and the instrument constant: for voltage steps one pass is then
+        // self-consistent to first order in the variation's move (against iterating to the 2% rule, measured: every
+        // systematic row within 2.5% of its rms). Ramps, whose references also carry the lag, take a second pass (one
+        // pass moved the radius row by a quarter of its rms).
         bool rebuilds = givenFree is null;
-        int minPasses = start is null ? OuterIterations : rebuilds ? 2 : 1, maxPasses = rebuilds ? MaxOuterIterations : minPasses;
+        int variationPasses = rebuilds && run.Protocol == Protocol.DistanceRamps ? 2 : 1;
+        int minPasses = start is null ? OuterIterations : variationPasses, maxPasses = rebuilds ? MaxOuterIterations : minPasses;
+        if (start is not null && variationPasses == 1) maxPasses = 1;
         Estimate? referencePotential = null;
         State? previous = null;
         // The V0 slope against separation the model uses within positions: the previous pass's (0 at the very start).
@@ -273,7 +282,15 @@ public static class RunReducer
             return (FreeSignalTrack.FromReferences(references.Select(r => new FreeSignalPoint(r.MeanTime,
                 CorrectedReference(r, basis, c, electrostatics, sign, frequency, v0At), r.Sigma)).ToArray()), v0Reference);
         }
+        // The track as corrected with a basis, and how it moves with that basis's z0 and constant.
+        TrackSensitivity Around(State basis, double slope) =>
+            new((z0, kappa) => TrackFrom(basis with { GapOffset = z0, Kappa = kappa }, slope).Track, basis.GapOffset, basis.Kappa);
         TrackSensitivity? sensitivity = start?.Sensitivity;
+        if (rebuilds && start?.Final is { } nominalBasis)
+        {
+            (track, referencePotential) = TrackFrom(nominalBasis, v0Slope);
+            sensitivity = Around(nominalBasis, v0Slope);
+        }
         for (int outer = 0; ; outer++)
         {
             state = GlobalPass(prepared, track, c, electrostatics, sign, shape, frequency, outer == 0 ? start?.Parameters : state.Parameters, variation: start is not null, v0Slope, sensitivity);
@@ -288,9 +305,7 @@ public static class RunReducer
             // The track depends on the calibration it was corrected with: the next fit sees that dependence (to first
             // order in z0 and the constant about this basis), so that f0(t) or S_free(t) and the calibration are
             // fitted consistently and the calibration's uncertainty carries the reference correction's.
-            State basis = state;
-            double basisSlope = v0Slope;
-            sensitivity = new TrackSensitivity((z0, kappa) => TrackFrom(basis with { GapOffset = z0, Kappa = kappa }, basisSlope).Track, basis.GapOffset, basis.Kappa);
+            sensitivity = Around(state, v0Slope);
             previous = state;
         }
         if (warnings is not null)
@@ -303,6 +318,7 @@ public static class RunReducer
         return state.ToCore(track, warnings ?? []) with
         {
             ReferenceGaps = references.Select(r => ReferenceGap(r, state, c, sign)).ToArray(), ReferencePotential = referencePotential, Sensitivity = sensitivity,
+            Final = state,
         };
     }
 
