@@ -53,6 +53,36 @@ public static class LinearLeastSquares
         return new FitResult(parameters, covariance, chi2, dof, 0, StopReason.Exact);
     }
 
+    /// <summary>
+    /// Generalised least squares with correlated observations of covariance C (A. C. Aitken, Proc. R. Soc. Edinb. 55, 42
+    /// (1936)): with C = L L^T, the whitened problem L^-1 y = L^-1 A b has unit independent errors and is solved as
+    /// above; the parameters' covariance is (A^T C^-1 A)^-1 and chi2 = r^T C^-1 r.
+    /// </summary>
+    public static FitResult FitCorrelated(double[,] design, IReadOnlyList<double> y, double[,] covariance)
+    {
+        int n = design.GetLength(0), k = design.GetLength(1);
+        if (covariance.GetLength(0) != n || covariance.GetLength(1) != n) throw new ArgumentException("the covariance must be n x n for n observations");
+        double[][] l = Matrices.CholeskyRows(covariance);
+        var whiteDesign = new double[n, k];
+        var whiteY = new double[n];
+        // Forward substitution L z = v for the observations and every design column at once.
+        for (int i = 0; i < n; i++)
+        {
+            double[] row = l[i];
+            if (!(row[i] > 0)) throw new ArgumentException($"the covariance is not positive definite (observation {i})");
+            double sy = y[i];
+            for (int m = 0; m < i; m++) sy -= row[m] * whiteY[m];
+            whiteY[i] = sy / row[i];
+            for (int j = 0; j < k; j++)
+            {
+                double s = design[i, j];
+                for (int m = 0; m < i; m++) s -= row[m] * whiteDesign[m, j];
+                whiteDesign[i, j] = s / row[i];
+            }
+        }
+        return Fit(whiteDesign, whiteY, Enumerable.Repeat(1.0, n).ToArray());
+    }
+
     /// <summary>Fits a polynomial b0 + b1 x + ... + b_d x^d.</summary>
     public static FitResult Polynomial(IReadOnlyList<double> x, IReadOnlyList<double> y, int degree, IReadOnlyList<double>? sigma = null)
     {

@@ -48,6 +48,41 @@ public sealed class NistLinearTests
         Check(d, LinearLeastSquares.Fit(design, d.Y), 7);
     }
 
+    [Test]
+    public void Generalised_least_squares_with_the_certified_residual_variance_reaches_Longleys_certified_values()
+    {
+        // With C = s^2 I (s the certified residual standard deviation) the generalised fit is the ordinary one with
+        // its covariance scaled by s^2: NIST's certified estimates and standard deviations.
+        NistDataset d = NistStrd.Read("Longley");
+        int n = d.Y.Length;
+        var design = new double[n, 7];
+        var covariance = new double[n, n];
+        for (int i = 0; i < n; i++)
+        {
+            design[i, 0] = 1;
+            for (int j = 0; j < 6; j++) design[i, j + 1] = d.X[i][j];
+            covariance[i, i] = d.ResidualSd * d.ResidualSd;
+        }
+        FitResult fit = LinearLeastSquares.FitCorrelated(design, d.Y, covariance);
+        Check(d, fit, 7);
+        // chi2 = RSS / s^2 = the degrees of freedom, since NIST's s^2 is RSS / (n − 7).
+        Assert.That(fit.ChiSquare, Is.EqualTo(n - 7).Within(1e-6).Percent);
+    }
+
+    [Test]
+    public void Generalised_least_squares_of_a_mean_with_correlated_errors_has_the_analytic_answer()
+    {
+        // The mean of two observations with variances 1 and 4 and covariance 1 (correlation 0.5): the best linear
+        // unbiased estimate weights them by C^-1 1 = [3, 0]/3 (C^-1 = [[4, −1], [−1, 1]]/3): the first observation
+        // alone, variance 1/(1^T C^-1 1) = 1; chi2 = r^T C^-1 r with r = [0, y2 − y1].
+        double[,] design = { { 1 }, { 1 } };
+        double[,] covariance = { { 1, 1 }, { 1, 4 } };
+        FitResult fit = LinearLeastSquares.FitCorrelated(design, [2.0, 5.0], covariance);
+        Assert.That(fit.Parameters[0], Is.EqualTo(2.0).Within(1e-12));
+        Assert.That(fit.Covariance[0, 0], Is.EqualTo(1.0).Within(1e-12));
+        Assert.That(fit.ChiSquare, Is.EqualTo(9.0 / 3.0).Within(1e-12));
+    }
+
     private static void Check(NistDataset d, FitResult fit, double digits)
     {
         Assert.That(fit.Parameters, Has.Length.EqualTo(d.Certified.Length));

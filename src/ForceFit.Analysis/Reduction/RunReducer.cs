@@ -409,6 +409,10 @@ public static class RunReducer
         double v0 = ResidualPotentialAlong(s)(a0);
         double tm = references.Average(r => r.MeanTime);
         FitResult fit = null!;
+        // The references' errors: their own, plus the free signal's random walk about the fitted line in time, which
+        // correlates the references of one bias (taken together) and so moves V0 with the walk: covariance
+        // sigma_i^2 delta_ij + D^2 (min(t_i, t_j) − t_first), D^2 from the references as in the track.
+        double[,]? covariance = null;
         for (int it = 0; it < 8; it++)
         {
             const double h = 1e-5; // V
@@ -424,7 +428,8 @@ public static class RunReducer
                 design[i, 2] = (up - at) / h;
                 y[i] = at;
             }
-            fit = LinearLeastSquares.Fit(design, y, references.Select(r => r.Sigma).ToArray());
+            covariance ??= ReferenceCovariance(references, y);
+            fit = LinearLeastSquares.FitCorrelated(design, y, covariance);
             // at_i + d_i dv = b0 + b1 t_i  =>  at_i = b0 + b1 t_i − d_i dv: the fitted third coefficient is −dv.
             double step = -fit.Parameters[2];
             v0 += step;
@@ -433,6 +438,20 @@ public static class RunReducer
         double birge = fit.DegreesOfFreedom > 0 ? Math.Sqrt(Math.Max(1, fit.ChiSquare / fit.DegreesOfFreedom)) : 1;
         double sigma = Math.Sqrt(fit.Covariance[2, 2]) * birge;
         return new Estimate(v0 + c.ReferencePotentialShift, sigma, sigma);
+    }
+
+    private static double[,] ReferenceCovariance(ReferencePoint[] references, double[] values)
+    {
+        int n = references.Length;
+        double first = references.Min(r => r.MeanTime);
+        double diffusion = FreeSignalTrack.EstimateDiffusion(references.Select((r, i) => new FreeSignalPoint(r.MeanTime, values[i], r.Sigma)).OrderBy(p => p.Time).ToArray());
+        var c = new double[n, n];
+        for (int i = 0; i < n; i++)
+        {
+            for (int j = 0; j < n; j++) c[i, j] = diffusion * (Math.Min(references[i].MeanTime, references[j].MeanTime) - first);
+            c[i, i] += references[i].Sigma * references[i].Sigma;
+        }
+        return c;
     }
 
     /// <summary>
