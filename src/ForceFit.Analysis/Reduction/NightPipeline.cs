@@ -100,6 +100,7 @@ public static class NightPipeline
             // Every run's problems at once, in run order, as one input error.
             throw new InputException(e.InnerExceptions.Cast<InputException>().SelectMany(x => x.Problems).ToArray());
         }
+        cancel.ThrowIfCancellationRequested();
         bool frequency = night.Runs[0].Instrument.Mode == InstrumentMode.FrequencyShift;
         CombinedNight combined = NightCombiner.Combine(results, frequency);
         var draws = new Relay<int>(d => progress?.Report(new StageProgress("Monte Carlo", d, options.Draws, "draws")));
