@@ -133,15 +133,8 @@ public static class LevenbergMarquardt
         Func<double[], int, double>? row = null, IReadOnlyList<int[]?>? rowsOf = null)
     {
         int n = y.Count, k = start.Length;
-        double[][] l = Matrices.CholeskyRows(covariance);
-        for (int i = 0; i < n; i++) if (!(l[i][i] > 0)) throw new ArgumentException($"the covariance of observation {i} is not positive definite");
-        // Forward substitution L z = v; rows before the first non-zero of v stay zero.
-        double[] Whiten(IReadOnlyList<double> v, int first = 0)
-        {
-            var z = new double[n];
-            for (int i = first; i < n; i++) z[i] = (v[i] - Matrices.Dot(l[i].AsSpan(first, i - first), z.AsSpan(first, i - first))) / l[i][i];
-            return z;
-        }
+        double[][] l = Matrices.WhiteningFactor(covariance);
+        double[] Whiten(IReadOnlyList<double> v, int first = 0) => Matrices.ForwardSubstitute(l, v, first);
         double[] yw = Whiten(y);
         double[]? lastP = null, lastValue = null, lastJacobianP = null;
         double[,]? lastJacobian = null;

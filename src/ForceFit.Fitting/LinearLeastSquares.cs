@@ -62,23 +62,15 @@ public static class LinearLeastSquares
     {
         int n = design.GetLength(0), k = design.GetLength(1);
         if (covariance.GetLength(0) != n || covariance.GetLength(1) != n) throw new ArgumentException("the covariance must be n x n for n observations");
-        double[][] l = Matrices.CholeskyRows(covariance);
+        double[][] l = Matrices.WhiteningFactor(covariance);
+        double[] whiteY = Matrices.ForwardSubstitute(l, y);
         var whiteDesign = new double[n, k];
-        var whiteY = new double[n];
-        // Forward substitution L z = v for the observations and every design column at once.
-        for (int i = 0; i < n; i++)
+        for (int j = 0; j < k; j++)
         {
-            double[] row = l[i];
-            if (!(row[i] > 0)) throw new ArgumentException($"the covariance is not positive definite (observation {i})");
-            double sy = y[i];
-            for (int m = 0; m < i; m++) sy -= row[m] * whiteY[m];
-            whiteY[i] = sy / row[i];
-            for (int j = 0; j < k; j++)
-            {
-                double s = design[i, j];
-                for (int m = 0; m < i; m++) s -= row[m] * whiteDesign[m, j];
-                whiteDesign[i, j] = s / row[i];
-            }
+            var column = new double[n];
+            for (int i = 0; i < n; i++) column[i] = design[i, j];
+            double[] white = Matrices.ForwardSubstitute(l, column);
+            for (int i = 0; i < n; i++) whiteDesign[i, j] = white[i];
         }
         return Fit(whiteDesign, whiteY, Enumerable.Repeat(1.0, n).ToArray());
     }

@@ -132,6 +132,25 @@ public static class Matrices
         return l;
     }
 
+    /// <summary>The rows of the Cholesky factor of an observations' covariance that must whiten them: every pivot positive.</summary>
+    public static double[][] WhiteningFactor(double[,] covariance)
+    {
+        double[][] l = CholeskyRows(covariance);
+        for (int i = 0; i < l.Length; i++) if (!(l[i][i] > 0)) throw new ArgumentException($"the covariance of observation {i} is not positive definite");
+        return l;
+    }
+
+    /// <summary>
+    /// Forward substitution L z = v with L from <see cref="CholeskyRows"/> (whitening: z = L^-1 v has unit covariance
+    /// when v has covariance L L^T); rows before <paramref name="first"/>, where v is zero, stay zero.
+    /// </summary>
+    public static double[] ForwardSubstitute(double[][] l, IReadOnlyList<double> v, int first = 0)
+    {
+        var z = new double[l.Length];
+        for (int i = first; i < l.Length; i++) z[i] = (v[i] - Dot(l[i].AsSpan(first, i - first), z.AsSpan(first, i - first))) / l[i][i];
+        return z;
+    }
+
     /// <summary>Sum of x[i] y[i] (<see cref="VectorKernels.Dot"/>).</summary>
     public static double Dot(ReadOnlySpan<double> x, ReadOnlySpan<double> y) => VectorKernels.Dot(x, y);
 

@@ -69,11 +69,12 @@ public sealed class FreeSignalTrack
         var dt = new double[n];
         var d = new double[n];
         var noise = new double[n];
+        double[] variance = points.Select(p => p.Sigma * p.Sigma).ToArray();
         for (int j = 0; j < n; j++)
         {
             dt[j] = points[j + 1].Time - points[j].Time;
             d[j] = points[j + 1].Value - points[j].Value;
-            noise[j] = points[j].Sigma * points[j].Sigma + points[j + 1].Sigma * points[j + 1].Sigma;
+            noise[j] = variance[j] + variance[j + 1];
         }
         double moments = MomentDiffusion(points, dt, d, noise);
         if (dt.Any(x => !(x > 0)) || noise.Any(x => !(x > 0))) return moments;
@@ -87,7 +88,7 @@ public sealed class FreeSignalTrack
         for (int g = 0; g < grid; g++)
         {
             values[g] = low * Math.Exp(Math.Log(high / low) * g / (grid - 1));
-            logLikelihood[g] = RestrictedLogLikelihood(values[g], dt, d, points);
+            logLikelihood[g] = RestrictedLogLikelihood(values[g], dt, d, variance);
         }
         double max = logLikelihood.Max();
         double sum = 0, weighted = 0;
@@ -115,15 +116,15 @@ public sealed class FreeSignalTrack
 
     // REML log-likelihood of the differences for diffusion D2, the rate profiled out: −(1/2)[ln|V| + ln(dt' V^-1 dt) + q],
     // q = d' V^-1 d − (dt' V^-1 d)^2 / (dt' V^-1 dt), by the LDL' factorisation of the tridiagonal V.
-    private static double RestrictedLogLikelihood(double d2, double[] dt, double[] d, IReadOnlyList<FreeSignalPoint> points)
+    private static double RestrictedLogLikelihood(double d2, double[] dt, double[] d, double[] variance)
     {
         int n = dt.Length;
         double logDet = 0, aa = 0, ab = 0, bb = 0;
         double previousPivot = 0, previousX = 0, previousY = 0;
         for (int j = 0; j < n; j++)
         {
-            double sj = points[j].Sigma * points[j].Sigma, sk = points[j + 1].Sigma * points[j + 1].Sigma;
-            double diagonal = d2 * dt[j] + sj + sk;
+            double sj = variance[j];
+            double diagonal = d2 * dt[j] + sj + variance[j + 1];
             // V[j, j−1] = −sigma_j^2: l_j = V[j, j−1] / pivot_(j−1); pivot_j = V[j, j] − l_j^2 pivot_(j−1).
             double l = j == 0 ? 0 : -sj / previousPivot;
             double pivot = diagonal - l * l * previousPivot;

@@ -265,8 +265,8 @@ public static class RunReducer
         // pass moved the radius row by a quarter of its rms).
         bool rebuilds = givenFree is null;
         int variationPasses = rebuilds && run.Protocol == Protocol.DistanceRamps ? 2 : 1;
-        int minPasses = start is null ? OuterIterations : variationPasses, maxPasses = rebuilds ? MaxOuterIterations : minPasses;
-        if (start is not null && variationPasses == 1) maxPasses = 1;
+        int minPasses = start is null ? OuterIterations : variationPasses;
+        int maxPasses = rebuilds && (start is null || variationPasses > 1) ? MaxOuterIterations : minPasses;
         Estimate? referencePotential = null;
         State? previous = null;
         // The V0 slope against separation the model uses within positions: the previous pass's (0 at the very start).
