@@ -21,7 +21,7 @@ namespace ForceFit.Analysis.Reduction;
 /// <param name="ReferencePotentialShift">Added to V0 at the reference gap where it is measured from reference steps at
 /// several biases (0; varied for its systematic).</param>
 internal sealed record RunConstants(double Scale, double Radius, double Amplitude, double? SpringConstant, double? Sensitivity,
-    Func<double, double[]>? ReferenceCasimir = null, double ReferenceCasimirScale = 1, double Lag = 0, double ReferencePotentialShift = 0);
+    ReferenceCasimirCurve? ReferenceCasimir = null, double ReferenceCasimirScale = 1, double Lag = 0, double ReferencePotentialShift = 0);
 
 /// <summary>
 /// Reduces one run's steps (voltage-steps) or gap bins gathered into windows (distance-ramps, see
@@ -86,21 +86,21 @@ public static class RunReducer
     // The reference steps are not force-free: at a few micrometres the Casimir gradient is still ~1e-4 of its value at
     // 1 um, which biases f0 (or S_free) and hence every far point. It is taken from the settings' theories — their mean,
     // which reduces the dependence on which one is right — at the reference gap of each pass.
-    private static Func<double, double[]>? ReferenceCasimir(RunSettings run)
+    private static ReferenceCasimirCurve? ReferenceCasimir(RunSettings run)
     {
         if (run.Theory.Theories.Count == 0) return null;
         IReadOnlyList<PreparedTheory> theories = TheoryModels.Prepare(run.Theory);
         bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
-        return a => theories.Select(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; }).ToArray();
+        return new ReferenceCasimirCurve(a => theories.Select(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; }).ToArray());
     }
 
     // Its relative uncertainty: half the spread of the theories at the mean reference gap (the models differ most in the
     // thermal regime), or 20% with a single theory (our choice, stated in the report).
-    private static double ReferenceCasimirRelativeSigma(Func<double, double[]> theories, Core core)
+    private static double ReferenceCasimirRelativeSigma(ReferenceCasimirCurve theories, Core core)
     {
         double[] gaps = core.ReferenceGaps;
         if (gaps.Length == 0) return 0;
-        double[] values = theories(gaps.Average());
+        double[] values = theories.PerTheory(gaps.Average());
         if (values.Length < 2) return 0.2;
         double mean = values.Average();
         return mean == 0 ? 0 : (values.Max() - values.Min()) / 2 / Math.Abs(mean);
@@ -376,7 +376,7 @@ public static class RunReducer
         {
             double a = s.GapOffset + sign * c.Scale * reading;
             double dv = r.Bias - v0At(a);
-            double casimir = c.ReferenceCasimir is { } f ? c.ReferenceCasimirScale * f(a).Average() : 0;
+            double casimir = c.ReferenceCasimir is { } f ? c.ReferenceCasimirScale * f.Mean(a) : 0;
             if (!double.IsFinite(casimir)) casimir = 0;
             return (frequency ? e.AveragedGradient(a, c.Amplitude) : e.Force(a)) * dv * dv + casimir;
         }
