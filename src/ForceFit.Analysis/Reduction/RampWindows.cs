@@ -27,15 +27,18 @@ internal sealed record RampPoint(int Window, int Sweep, double Time, double Piez
 /// <param name="LagSigma">Its standard uncertainty (s).</param>
 /// <param name="References">Each sweep's bins beyond reference_beyond gathered into one point (window −1): free-signal
 /// references at both ends of every bias's sweeps.</param>
-internal sealed record RampWindowSet(RampPoint[] Points, (int I, int L, double Rho)[] Correlated, double Lag, double LagSigma, RampPoint[] References);
+/// <param name="SampleInterval">The record's sample interval (s), the median over the bins.</param>
+internal sealed record RampWindowSet(RampPoint[] Points, (int I, int L, double Rho)[] Correlated, double Lag, double LagSigma, RampPoint[] References,
+    double SampleInterval);
 
 /// <summary>
 /// distance-ramps (physics.md, the same electrostatic calibration as for steps): the gap bins of each sweep are gathered
 /// into windows of piezo reading that widen geometrically away from the plate (two bins at the nearest, about 36 in
 /// all), so that a window plays the part of a piezo position. The model of a window is the two-point average
-/// [M(r − u tau + s) + M(r − u tau − s)]/2 over its mean reading r, with s^2 the readings' variance plus (u tau)^2:
-/// exact to second order for the mean of M over the window, and for a first-order lag of the recorded signal
-/// (time constant tau, sweep speed u): y = x − tau x' + tau^2 x'' − ... with x(t) = M(r(t)).
+/// [M(r − u L + s) + M(r − u L − s)]/2 over its mean reading r (<see cref="LaggedWindow.TwoPoints"/>), with s^2 the readings'
+/// variance plus u^2 Var(D): exact to second order for the mean of M over the window, and for a lag of the recorded
+/// signal that delays it by D with mean L (sweep speed u): E[x(t − D)] = x(t) − L x' + (L^2 + Var D) x''/2 − ... with
+/// x(t) = M(r(t)).
 /// </summary>
 internal static class RampWindows
 {
@@ -61,7 +64,7 @@ internal static class RampWindows
             sweeps[^1].Add(bins[i]);
         }
         var measured = bins.Where(b => Measured(b.Piezo)).ToArray();
-        if (measured.Length == 0) return new RampWindowSet([], [], 0, 0, []);
+        if (measured.Length == 0) return new RampWindowSet([], [], 0, 0, [], 0);
         // Depth in bins from the nearest measured bin (0 nearest the plate) and the windows' edges in depth.
         long Key(double piezo) => (long)Math.Floor(piezo / bin);
         long nearestKey = sign > 0 ? measured.Min(b => Key(b.Piezo)) : measured.Max(b => Key(b.Piezo));
@@ -112,7 +115,7 @@ internal static class RampWindows
                 if (cov != 0) correlated.Add((i, l, cov / (points[i].Sigma * points[l].Sigma)));
             }
         (double lag, double lagSigma) = Lag(points, sweeps);
-        return new RampWindowSet(points.ToArray(), correlated.ToArray(), lag, lagSigma, references.ToArray());
+        return new RampWindowSet(points.ToArray(), correlated.ToArray(), lag, lagSigma, references.ToArray(), dt);
     }
 
     // Window edges in depth (bins): widths w0 g^i from w0 = 2 bins, g chosen so that TargetWindows windows span the

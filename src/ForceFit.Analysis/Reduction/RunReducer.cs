@@ -17,11 +17,14 @@ namespace ForceFit.Analysis.Reduction;
 /// <param name="ReferenceCasimir">Each of the settings' theories' Casimir force gradient (frequency mode) or force
 /// (deflection) at a gap, felt by the reference steps; null when no theory is given (reference steps then taken as force-free).</param>
 /// <param name="ReferenceCasimirScale">Factor on it (1; varied for its systematic).</param>
-/// <param name="Lag">Time constant of the recorded signal's first-order lag (s; distance-ramps, measured).</param>
+/// <param name="Lag">Mean delay of the recorded signal's first-order lag (s; distance-ramps, measured).</param>
+/// <param name="LagStep">The time step of that filter (s): the delay's variance is Lag (Lag + LagStep)
+/// (<see cref="LaggedWindow.TwoPoints"/>); the sample interval for a filter run once per sample, 0 for a continuous one.</param>
 /// <param name="ReferencePotentialShift">Added to V0 at the reference gap where it is measured from reference steps at
 /// several biases (0; varied for its systematic).</param>
 internal sealed record RunConstants(double Scale, double Radius, double Amplitude, double? SpringConstant, double? Sensitivity,
-    ReferenceCasimirCurve? ReferenceCasimir = null, double ReferenceCasimirScale = 1, double Lag = 0, double ReferencePotentialShift = 0);
+    ReferenceCasimirCurve? ReferenceCasimir = null, double ReferenceCasimirScale = 1, double Lag = 0, double ReferencePotentialShift = 0,
+    double LagStep = 0);
 
 /// <summary>
 /// Reduces one run's steps (voltage-steps) or gap bins gathered into windows (distance-ramps, see
@@ -41,7 +44,7 @@ public static class RunReducer
         RunSettings run = segments.Run;
         var warnings = new List<string>();
         Prepared prepared = Prepare(segments, warnings);
-        var nominal = Constants(run) with { Lag = prepared.Lag };
+        var nominal = Constants(run) with { Lag = prepared.Lag, LagStep = prepared.SampleInterval };
         Core core = Compute(prepared, nominal, null, warnings);
         var sources = new List<SystematicSource> { core.CalibrationSource };
         void Vary(string name, Func<RunConstants, double, RunConstants> with, double sigma, bool shared)
@@ -62,6 +65,9 @@ public static class RunReducer
             Vary("reference-gap Casimir force", (c, d) => c with { ReferenceCasimirScale = 1 + d }, ReferenceCasimirRelativeSigma(nominal.ReferenceCasimir, core), true);
         if (core.ReferencePotential is { } v0Reference)
             Vary("V0 at the reference gap", (c, d) => c with { ReferencePotentialShift = d }, v0Reference.StatisticalSigma, false);
+        // Whether the signal's filter runs once per sample (the nominal) or continuously changes the delay's variance
+        // from L (L + dt) to L^2 (LaggedWindow.TwoPoints): varied by one sample interval either way.
+        if (prepared.Lag != 0) Vary("signal filter step", (c, d) => c with { LagStep = c.LagStep + d }, prepared.SampleInterval, false);
         if (run.Instrument.SpringConstant is { } k) Vary("spring constant (given)", (c, d) => c with { SpringConstant = k.Value + d }, k.Sigma, false);
         if (run.Instrument.DeflectionSensitivity is { } m) Vary("deflection sensitivity (given)", (c, d) => c with { Sensitivity = m.Value + d }, m.Sigma, false);
 
@@ -165,8 +171,9 @@ public static class RunReducer
     /// <param name="Correlated">Pairs of points with correlated noise (ramp windows of one sweep), with the correlation.</param>
     /// <param name="PiezoShared">True when a position's points share one mean reading (voltage steps), so its readout error is common.</param>
     /// <param name="Lag">The signal's lag time measured from the ramps (s), 0 for steps: the start of its fit.</param>
+    /// <param name="SampleInterval">The record's sample interval (s; ramps, else 0).</param>
     private sealed record Prepared(RunSegments Segments, StepPoint[] Steps, int[][] Groups, ReferencePoint[] References, (int I, int L, double Rho)[] Correlated,
-        bool PiezoShared, double Lag);
+        bool PiezoShared, double Lag, double SampleInterval);
 
     private static Prepared Prepare(RunSegments segments, List<string> warnings)
     {
@@ -192,7 +199,7 @@ public static class RunReducer
             double sigma = segments.Thresholds.PiezoNoise / Math.Sqrt(total);
             foreach (int i in members) steps[i] = steps[i] with { Piezo = mean, PiezoSigma = sigma };
         }
-        return new Prepared(segments, steps, groups, references, [], true, 0);
+        return new Prepared(segments, steps, groups, references, [], true, 0, 0);
     }
 
     // Ramps: one point per sweep and window (RampWindows); a window is a position when it holds at least three
@@ -222,7 +229,7 @@ public static class RunReducer
         var correlated = set.Correlated.Where(c => newIndex.ContainsKey(c.I) && newIndex.ContainsKey(c.L)).Select(c => (newIndex[c.I], newIndex[c.L], c.Rho)).ToArray();
         if (set.LagSigma == 0)
             warnings.Add($"{segments.Run.DataFile}: the signal's lag could not be measured (no approach and retract at the same bias); taken as zero");
-        return new Prepared(segments, steps, groups, references, correlated, false, set.Lag);
+        return new Prepared(segments, steps, groups, references, correlated, false, set.Lag, set.SampleInterval);
     }
 
     private static Core Compute(Prepared prepared, RunConstants c, Core? start, List<string>? warnings)
@@ -380,8 +387,12 @@ public static class RunReducer
             if (!double.IsFinite(casimir)) casimir = 0;
             return (frequency ? e.AveragedGradient(a, c.Amplitude) : e.Force(a)) * dv * dv + casimir;
         }
-        double shift = c.Lag * r.Speed, half = Math.Sqrt(r.Spread * r.Spread + shift * shift);
-        double felt = half == 0 && shift == 0 ? Felt(r.Piezo) : 0.5 * (Felt(r.Piezo - shift + half) + Felt(r.Piezo - shift - half));
+        double Averaged()
+        {
+            var (low, high) = LaggedWindow.TwoPoints(r.Piezo, r.Spread, r.Speed, c.Lag, c.LagStep);
+            return 0.5 * (Felt(low) + Felt(high));
+        }
+        double felt = r.Spread == 0 && r.Speed == 0 ? Felt(r.Piezo) : Averaged();
         if (frequency)
         {
             // f_ref = f0 sqrt(1 − (<G>(a)(V − V0)^2 + F'_Casimir(a)) / k)  =>  f0 = f_ref / sqrt(1 − y)
@@ -630,8 +641,8 @@ public static class RunReducer
             double trackMove = obsByGap is null ? 0 : obsByGap[i] * (q.Z0 - sensitivity!.GapOffset) + obsByConstant![i] * (q.K - sensitivity.Constant);
             if (st.Spread == 0 && st.Speed == 0) return At(st.Piezo) - trackMove;
             // A ramp window (RampWindows): the two-point average over its readings, shifted back by the signal's lag.
-            double shift = (fitLag ? p[iLag] : c.Lag) * st.Speed, half = Math.Sqrt(st.Spread * st.Spread + shift * shift);
-            return 0.5 * (At(st.Piezo - shift + half) + At(st.Piezo - shift - half)) - trackMove;
+            var (low, high) = LaggedWindow.TwoPoints(st.Piezo, st.Spread, st.Speed, fitLag ? p[iLag] : c.Lag, c.LagStep);
+            return 0.5 * (At(low) + At(high)) - trackMove;
         }
         // Generalised least squares with the full covariance of the observations: noise, the free signal's shared
         // errors and random walk, and the recorded channels' readout errors carried through

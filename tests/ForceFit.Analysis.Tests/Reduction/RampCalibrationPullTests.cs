@@ -56,7 +56,8 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
         // for the frequency seeds, a 2.6-sigma fluctuation of their mean), so the plain pulls are printed, and the
         // pulls with the scale's known effect taken out, which test everything else the sigmas contain, are asserted.
         // Not met yet, so printed and not asserted (open problem, DEVELOPERS.md): in frequency mode the mean of the z0
-        // pull with the scale taken out (−0.72: z0 comes out low by about half its statistical sigma, 0.02 nm).
+        // pull with the scale taken out (−0.49 for these seeds, −0.31 over seeds 8000–8039 and −0.22 over 8020–8059,
+        // measured with a probe: z0 comes out low by ~0.3 of its sigma, a few pm).
         double[] draws = results.Select(p => p.Scale).ToArray();
         TestContext.Out.WriteLine($"drawn piezo scale (s − 1)/sigma_s: mean {draws.Average():F3}, rms {Math.Sqrt(draws.Average(x => x * x)):F3}");
         foreach (var (name, values) in new (string, IEnumerable<double>)[] { ("z0 (plain)", results.Select(p => p.Z0)), ("k (plain)", results.Select(p => p.K)), ("m (plain)", results.Select(p => p.M)) })
