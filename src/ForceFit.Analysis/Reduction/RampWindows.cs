@@ -11,14 +11,16 @@ namespace ForceFit.Analysis.Reduction;
 /// <param name="Spread">Root-mean-square spread of the true readings about the mean (m): the bins' means about it and
 /// the motion within each bin.</param>
 /// <param name="Speed">The sweep's speed in reading (m/s, signed).</param>
-/// <param name="Bias">Mean recorded bias (V).</param>
+/// <param name="Bias">Mean recorded bias of the whole sweep (V): the commanded bias is constant over a sweep, so every
+/// window of it takes the sweep's mean reading, whose readout error is shared by them.</param>
 /// <param name="Signal">Mean signal.</param>
 /// <param name="Sigma">Its uncertainty from the run's noise model, the samples taken as consecutive.</param>
 /// <param name="Samples">Samples.</param>
 /// <param name="FirstTime">Time of the first sample (s).</param>
 /// <param name="LastTime">Time of the last sample (s).</param>
+/// <param name="BiasSamples">Samples of the sweep the bias is the mean of.</param>
 internal sealed record RampPoint(int Window, int Sweep, double Time, double Piezo, double Spread, double Speed, double Bias, double Signal,
-    double Sigma, int Samples, double FirstTime, double LastTime);
+    double Sigma, int Samples, double FirstTime, double LastTime, long BiasSamples);
 
 /// <summary>A run's ramps gathered into windows, the covariance of neighbouring windows and the signal's lag.</summary>
 /// <param name="Points">One point per sweep and window, in sweep and then window order.</param>
@@ -81,7 +83,7 @@ internal static class RampWindows
         double dt = Median(bins.Where(b => b.SamplesKept > 2).Select(b => (b.End - b.Start) / (b.SamplesKept - 1)).ToArray());
         var points = new List<RampPoint>();
         var references = new List<RampPoint>();
-        RampPoint? Gather(int window, int sweep, double speed, IEnumerable<SegmentStatistics> bins)
+        RampPoint? Gather(int window, int sweep, double speed, (double Mean, long Samples) bias, IEnumerable<SegmentStatistics> bins)
         {
             SegmentStatistics[] members = bins.OrderBy(b => b.Start).ToArray();
             int n = members.Sum(b => b.SamplesKept);
@@ -93,15 +95,17 @@ internal static class RampWindows
             double variance = members.Sum(b => b.SamplesKept * ((b.Piezo - reading) * (b.Piezo - reading)
                 + (b.SamplesKept * (double)b.SamplesKept - 1) / 12 * speed * dt * speed * dt)) / n;
             return new RampPoint(window, sweep, members.Sum(b => b.MeanTime * b.SamplesKept) / n, reading, Math.Sqrt(variance), speed,
-                members.Sum(b => b.Bias * b.SamplesKept) / n, mean, segments.Noise.SigmaOfMean(n), n, members[0].Start, members[^1].End);
+                bias.Mean, mean, segments.Noise.SigmaOfMean(n), n, members[0].Start, members[^1].End, bias.Samples);
         }
         for (int sw = 0; sw < sweeps.Count; sw++)
         {
             List<SegmentStatistics> sweep = sweeps[sw];
             double speed = Speed(sweep);
+            long samples = sweep.Sum(b => (long)b.SamplesKept);
+            (double, long) bias = (sweep.Sum(b => b.Bias * b.SamplesKept) / samples, samples);
             foreach (var window in sweep.Where(b => Measured(b.Piezo)).GroupBy(b => WindowOf(b.Piezo)))
-                if (Gather(window.Key, sw, speed, window) is { } point) points.Add(point);
-            if (Gather(-1, sw, speed, sweep.Where(b => !Measured(b.Piezo))) is { } reference) references.Add(reference);
+                if (Gather(window.Key, sw, speed, bias, window) is { } point) points.Add(point);
+            if (Gather(-1, sw, speed, bias, sweep.Where(b => !Measured(b.Piezo))) is { } reference) references.Add(reference);
         }
         // Correlated noise between windows of one sweep that lie within the noise's summation window of each other.
         var correlated = new List<(int, int, double)>();

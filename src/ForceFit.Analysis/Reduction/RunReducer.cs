@@ -156,12 +156,14 @@ public static class RunReducer
     /// <param name="Signal">Mean signal.</param>
     /// <param name="SignalSigma">Its uncertainty from the correlated-noise model.</param>
     /// <param name="Samples">Samples kept.</param>
-    /// <param name="BiasSigma">Uncertainty of the step's mean recorded bias (readout noise / sqrt(samples)).</param>
+    /// <param name="BiasSigma">Uncertainty of the step's mean recorded bias (readout noise / sqrt(samples)), shared by the
+    /// points of its bias group.</param>
     /// <param name="PiezoSigma">Uncertainty of the position's mean recorded piezo reading, shared by its steps.</param>
     /// <param name="Spread">Rms spread of the true readings the point averages over (m; ramp windows, else 0).</param>
     /// <param name="Speed">Reading speed while it was recorded (m/s; ramp windows, else 0).</param>
+    /// <param name="BiasGroup">Points with the same group share one mean recorded bias (a ramp's sweep); −1 for a step's own.</param>
     private sealed record StepPoint(double Time, double Piezo, double Bias, double Signal, double SignalSigma, int Samples, double BiasSigma = 0, double PiezoSigma = 0,
-        double Spread = 0, double Speed = 0);
+        double Spread = 0, double Speed = 0, int BiasGroup = -1);
 
     /// <summary>A run's points, grouped by position, with what the passes share.</summary>
     /// <param name="Segments">The run's steps or bins as read.</param>
@@ -223,7 +225,7 @@ public static class RunReducer
         var newIndex = new Dictionary<int, int>();
         for (int i = 0; i < used.Length; i++) newIndex[used[i]] = i;
         var steps = used.Select(i => set.Points[i]).Select(p => new StepPoint(p.Time, p.Piezo, p.Bias, p.Signal, p.Sigma, p.Samples,
-            t.BiasNoise / Math.Sqrt(p.Samples), t.PiezoNoise / Math.Sqrt(p.Samples), p.Spread, p.Speed)).ToArray();
+            t.BiasNoise / Math.Sqrt(p.BiasSamples), t.PiezoNoise / Math.Sqrt(p.Samples), p.Spread, p.Speed, p.Sweep)).ToArray();
         // Positions ordered by reading, as for steps.
         int[][] groups = keep.Select(g => g.Select(i => newIndex[i]).OrderBy(i => steps[i].Time).ToArray()).OrderBy(g => g.Average(i => steps[i].Piezo)).ToArray();
         var correlated = set.Correlated.Where(c => newIndex.ContainsKey(c.I) && newIndex.ContainsKey(c.L)).Select(c => (newIndex[c.I], newIndex[c.L], c.Rho)).ToArray();
@@ -656,6 +658,7 @@ public static class RunReducer
             for (int i = 0; i < m; i++) f[i] = ModelAt(i, p);
             return f;
         }
+        int[][] biasGroups = Enumerable.Range(0, n).Where(i => steps[i].BiasGroup >= 0).GroupBy(i => steps[i].BiasGroup).Select(g => g.ToArray()).ToArray();
         double[,] Covariance(double[] p)
         {
             var total = new double[m, m];
@@ -673,9 +676,12 @@ public static class RunReducer
                 steps[i] = st with { Piezo = st.Piezo - hp }; down = ModelAt(i, p);
                 dPiezo[i] = (up - down) / (2 * hp);
                 steps[i] = st;
-                total[i, i] += dBias[i] * dBias[i] * st.BiasSigma * st.BiasSigma;
+                if (st.BiasGroup < 0) total[i, i] += dBias[i] * dBias[i] * st.BiasSigma * st.BiasSigma;
                 if (!prepared.PiezoShared) total[i, i] += dPiezo[i] * dPiezo[i] * st.PiezoSigma * st.PiezoSigma;
             }
+            // A sweep's windows share its mean recorded bias: one error, (df_i/dV)(df_q/dV) sigma_V^2 between them.
+            foreach (int[] g in biasGroups)
+                foreach (int i in g) foreach (int q in g) total[i, q] += dBias[i] * dBias[q] * steps[i].BiasSigma * steps[i].BiasSigma;
             if (prepared.PiezoShared)
                 foreach (int[] g in groups)
                     foreach (int i in g) foreach (int q in g) total[i, q] += dPiezo[i] * dPiezo[q] * steps[i].PiezoSigma * steps[i].PiezoSigma;
