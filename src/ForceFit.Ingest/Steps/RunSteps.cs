@@ -128,7 +128,8 @@ public static class RunSteps
 
         /// <summary>Clips glitches, records residuals for the noise model (the run's, or <paramref name="into"/>), and returns mean, naive sigma, n and clipped.</summary>
         [System.Runtime.CompilerServices.MethodImpl(System.Runtime.CompilerServices.MethodImplOptions.AggressiveOptimization)]
-        protected (double Mean, double Naive, int N, int Clipped) Summarise(ReadOnlySpan<double> values, Func<int, double>? trend = null, NoiseModel.Accumulator? into = null)
+        protected (double Mean, double Naive, int N, int Clipped) Summarise(ReadOnlySpan<double> values, Func<int, double>? trend = null, NoiseModel.Accumulator? into = null,
+            Span<bool> clippedMask = default)
         {
             int n = values.Length;
             if (n == 0) return (double.NaN, double.NaN, 0, 0);
@@ -156,7 +157,9 @@ public static class RunSteps
             for (int i = 0; i < n; i++)
             {
                 double r = residual[i];
-                if (Math.Abs(r - median) > limit)
+                bool glitch = Math.Abs(r - median) > limit;
+                if (clippedMask.Length > i) clippedMask[i] = glitch;
+                if (glitch)
                 {
                     clipped++;
                     continue;
@@ -423,9 +426,19 @@ public static class RunSteps
                 }
                 double slope = sxx > 0 ? sxy / sxx : 0;
                 double[] values = idx.Select(i => _segment[i].S).ToArray();
-                (double mean, double naive, int n, int clipped) = Summarise(values, k => slope * (_segment[idx[k]].P - meanP), into: BinNoise);
-                Output.Add(new Raw(kind, _segment[idx[0]].T, _segment[idx[^1]].T, meanP,
-                    idx.Average(i => _segment[i].V), mean, naive, n, clipped, _segment[idx[0]].Line, idx.Average(i => _segment[i].T)));
+                var glitches = new bool[idx.Count];
+                (double mean, double naive, int n, int clipped) = Summarise(values, k => slope * (_segment[idx[k]].P - meanP), BinNoise, glitches);
+                // The bin's reading, bias and time are those of the samples its mean signal keeps: a sample left out as a
+                // glitch would otherwise move the reading against the mean by up to a sample's step in a steep stretch.
+                double sumP = 0, sumV = 0, sumT = 0;
+                for (int k = 0; k < idx.Count; k++)
+                {
+                    if (glitches[k]) continue;
+                    sumP += _segment[idx[k]].P;
+                    sumV += _segment[idx[k]].V;
+                    sumT += _segment[idx[k]].T;
+                }
+                Output.Add(new Raw(kind, _segment[idx[0]].T, _segment[idx[^1]].T, sumP / n, sumV / n, mean, naive, n, clipped, _segment[idx[0]].Line, sumT / n));
             }
         }
     }

@@ -173,4 +173,38 @@ public sealed class SampleSourceTests : TemporaryFolderTest
         TestContext.Out.WriteLine($"integrated time {r.Noise.IntegratedTime:F2} samples (injected 19)");
         Assert.That(r.Warnings, Has.None.Contains("no hold"));
     }
+    [Test]
+    public void A_bin_without_its_glitch_keeps_its_reading_consistent_with_its_mean()
+    {
+        // The same simulated ramps with and without glitches (the noise draws are the same; no readout noise or
+        // dropped rows, so the bins match one to one). Leaving a glitch sample out of a bin moves its mean signal by
+        // slope * (the move of its mean reading) plus the left-out sample's noise / (n − 1); a reading averaged over
+        // all samples instead would leave slope (p_mean − p_glitch)/(n − 1) unexplained, up to 0.3 Hz near the plate
+        // against the noise's 6e-4 Hz.
+        var imperfections = new Imperfections(ReadoutNoise: false, DroppedSamples: false);
+        var scenario = new Scenario { Runs = 1, Protocol = SimulatedProtocol.DistanceRamps, Biases = 3, GlitchesPerHour = 3600, Imperfections = imperfections };
+        RunSegments Bins(string name, Scenario sc)
+        {
+            string night = Path.Combine(Folder, name);
+            NightSimulator.Simulate(new SimulationRequest(night, sc, 11, false, SimulationRequest.DefaultColumns(sc.Mode, false)));
+            return RunSteps.Read(RunFileReader.ReadNight(night).Runs.Single());
+        }
+        var with = Bins("glitches", scenario).Segments;
+        var without = Bins("clean", scenario with { Imperfections = imperfections with { Glitches = false } }).Segments;
+        Assert.That(with, Has.Count.EqualTo(without.Count));
+        var normalised = new List<double>();
+        for (int i = 1; i + 1 < with.Count; i++)
+        {
+            SegmentStatistics g = with[i], c = without[i];
+            bool sameSweep = without[i - 1].Kind == c.Kind && without[i + 1].Kind == c.Kind && without[i - 1].Bias == c.Bias && without[i + 1].Bias == c.Bias;
+            if (g.Clipped == 0 || c.Clipped != 0 || !sameSweep || c.Kind is not (SegmentKind.Approach or SegmentKind.Retract)) continue;
+            double slope = (without[i + 1].Mean - without[i - 1].Mean) / (without[i + 1].Piezo - without[i - 1].Piezo);
+            double residual = (g.Mean - c.Mean) - slope * (g.Piezo - c.Piezo);
+            normalised.Add(residual / (scenario.FrequencyNoise / (c.SamplesKept - 1)));
+        }
+        TestContext.Out.WriteLine($"{normalised.Count} bins with a glitch left out; normalised residual rms {Math.Sqrt(normalised.Average(x => x * x)):F2}, largest {normalised.Max(Math.Abs):F2}");
+        Assert.That(normalised, Has.Count.GreaterThan(20));
+        Assert.That(Math.Sqrt(normalised.Average(x => x * x)), Is.LessThan(2));
+        Assert.That(normalised.Max(Math.Abs), Is.LessThan(6));
+    }
 }
