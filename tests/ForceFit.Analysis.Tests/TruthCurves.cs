@@ -108,6 +108,40 @@ internal sealed record SimulatedNight(NightTruth Truth, NightSettings Night, Nig
         }
     }
 
+    /// <summary>
+    /// Deflection mode: the undeflected gap g to the resting separation a* = g − |F(a*)|/k under the true Casimir
+    /// force (the true curve; fixed point), where V0 is found (RunGenerator puts V0 at the actual separation).
+    /// </summary>
+    public double RestingGap(double gap)
+    {
+        var stated = Night.Runs[0].Theory;
+        int theory = stated.Theories.ToList().FindIndex(th => th.Name == Truth.Scenario.TruthTheory);
+        var truthInputs = TruthCurves.WithTruth(stated, Truth.Inputs);
+        double a = gap;
+        for (int it = 0; it < 5; it++)
+            a = gap - Math.Abs(TheoryComparison.Predict(truthInputs, [a], false)[theory][0]) / Truth.Runs[0].Run.SpringConstant;
+        return a;
+    }
+
+    /// <summary>
+    /// (V0 − truth)/sigma at the run's nearest position, at its mean time and true separation (RunGenerator.Gap and
+    /// ResidualPotential; in deflection mode the resting separation, about 2 nm closer at the nearest position).
+    /// </summary>
+    public double ResidualPotentialPull
+    {
+        get
+        {
+            RunResult result = Reduction.Runs[0];
+            RunTruth t = Truth.Runs[0].Run;
+            var (v0, v0Sigma, _, _, _) = NightPipeline.ResidualPotential(result);
+            PositionFit nearest = result.Positions.MinBy(p => p.Separation)!;
+            double gap = t.GapOffset + t.GapDriftRate * nearest.Time + t.PiezoScale * nearest.Piezo;
+            if (Truth.Scenario.Mode == SimulatedMode.Deflection) gap = RestingGap(gap);
+            double v0True = t.ResidualPotential + t.ResidualPotentialGapSlope * (gap - t.ReferenceGapForV0) + t.ResidualPotentialTimeSlope * nearest.Time;
+            return (v0 - v0True) / v0Sigma;
+        }
+    }
+
     /// <summary>The p-value of the night's result against the true curve (<see cref="TruthCurves.PValueAgainstTruth"/>).</summary>
     public double CurvePValue => TruthCurves.PValueAgainstTruth(Reduction.Combined, Night.Runs[0].Theory, Truth);
 }

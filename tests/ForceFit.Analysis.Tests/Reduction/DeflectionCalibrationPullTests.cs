@@ -21,14 +21,18 @@ public sealed class DeflectionCalibrationPullTests : TemporaryFolderTest
     public void Pulls_of_z0_k_and_m_have_unit_rms_over_twenty_deflection_nights()
     {
         var scenario = new Scenario { Mode = SimulatedMode.Deflection, Protocol = SimulatedProtocol.VoltageSteps, Runs = 1 };
-        var pulls = SimulatedNight.ReduceEach<(double Z0, double K, double M, double Chi2PerDof, double CurveP)>(Folder, scenario, 6000, Seeds, n =>
+        var pulls = SimulatedNight.ReduceEach<(double Z0, double K, double M, double V0, double Chi2PerDof, double CurveP)>(Folder, scenario, 6000, Seeds, n =>
         {
             RunCalibration c = n.Reduction.Runs[0].Calibration;
             return (n.GapOffsetPull, n.SpringConstantPull, (c.Sensitivity!.Value - n.Truth.Runs[0].Run.DeflectionSensitivity) / c.Sensitivity.Sigma,
-                c.ChiSquare / c.DegreesOfFreedom, n.CurvePValue);
+                n.ResidualPotentialPull, c.ChiSquare / c.DegreesOfFreedom, n.CurvePValue);
         });
         using var scope = Assert.EnterMultipleScope();
         Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("m", pulls.Select(p => p.M)));
+        // Not met yet, so printed and not asserted (open problem, DEVELOPERS.md): V0 at the nearest position comes out
+        // low by ~1 of its sigma (1.5 uV) against the truth at the resting separation (rms 1.38, mean −0.67).
+        double[] v0 = pulls.Select(p => p.V0).ToArray();
+        TestContext.Out.WriteLine($"V0 (not asserted): pull rms {Math.Sqrt(v0.Average(x => x * x)):F3}, mean {v0.Average():F3}");
         int agree = pulls.Count(p => p.CurveP > 0.01);
         TestContext.Out.WriteLine($"calibration chi2/dof: mean {pulls.Average(p => p.Chi2PerDof):F3}; force against the true curve p > 0.01 in {agree} of {Seeds}");
         Assert.That(agree, Is.GreaterThanOrEqualTo(18), "the reduced force agrees with the true curve in at least 90% of nights");

@@ -30,14 +30,6 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
             RunResult result = n.Reduction.Runs[0];
             RunTruth t = n.Truth.Runs[0].Run;
             RunCalibration c = result.Calibration;
-            // V0 at the nearest window, at its mean time and true separation (RunGenerator.Gap and ResidualPotential);
-            // in deflection mode the sphere rests closer by x* = |F(a*)|/k under the Casimir force at V = V0 (the
-            // true curve), about 2 nm there.
-            var (v0, v0Sigma, _, _, _) = NightPipeline.ResidualPotential(result);
-            PositionFit nearest = result.Positions.MinBy(p => p.Separation)!;
-            double gap = t.GapOffset + t.GapDriftRate * nearest.Time + t.PiezoScale * nearest.Piezo;
-            if (!frequency) gap = RestingGap(n, gap);
-            double v0True = t.ResidualPotential + t.ResidualPotentialGapSlope * (gap - t.ReferenceGapForV0) + t.ResidualPotentialTimeSlope * nearest.Time;
             double mPull = frequency ? 0 : (c.Sensitivity!.Value - t.DeflectionSensitivity) / c.Sensitivity.Sigma;
             // The same with the night's drawn piezo scale taken out: its one-sigma effect is the "piezo scale"
             // systematic (the change for +1 sigma of s), so the estimate with s at its truth is est + d shift, against
@@ -48,7 +40,7 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
             double z0Without = Without(c.GapOffset.Value, t.GapOffset + t.GapDriftRate * c.ReferenceTime, c.GapOffset.Sigma, scale.GapOffset.Sum());
             double kWithout = Without(c.SpringConstant.Value, t.SpringConstant, c.SpringConstant.Sigma, scale.SpringConstant.Sum());
             double mWithout = frequency ? 0 : Without(c.Sensitivity!.Value, t.DeflectionSensitivity, c.Sensitivity.Sigma, scale.Sensitivity.Sum());
-            return (Z0: n.GapOffsetPull, K: n.SpringConstantPull, V0: (v0 - v0True) / v0Sigma, M: mPull, Chi2PerDof: c.ChiSquare / c.DegreesOfFreedom,
+            return (Z0: n.GapOffsetPull, K: n.SpringConstantPull, V0: n.ResidualPotentialPull, M: mPull, Chi2PerDof: c.ChiSquare / c.DegreesOfFreedom,
                 CurveP: n.CurvePValue, Lag: c.SignalLag?.Value ?? double.NaN, Scale: d, Z0Without: z0Without, KWithout: kWithout, MWithout: mWithout);
         });
         using var scope = Assert.EnterMultipleScope();
@@ -80,17 +72,5 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
         // ramp it trails by dt rho/(1 − rho) (its steady state), 27.6 ms for tau = 30 ms at 200 samples/s.
         double dt = 1 / scenario.SampleRate, rho = Math.Exp(-dt / scenario.SettlingTime);
         Assert.That(results.Average(p => p.Lag), Is.EqualTo(dt * rho / (1 - rho)).Within(0.02 * scenario.SettlingTime));
-    }
-
-    // Undeflected gap g to the resting separation a* = g − |F(a*)|/k under the true Casimir force (fixed point).
-    private static double RestingGap(SimulatedNight n, double gap)
-    {
-        var stated = n.Night.Runs[0].Theory;
-        int theory = stated.Theories.ToList().FindIndex(th => th.Name == n.Truth.Scenario.TruthTheory);
-        var truthInputs = TruthCurves.WithTruth(stated, n.Truth.Inputs);
-        double a = gap;
-        for (int it = 0; it < 5; it++)
-            a = gap - Math.Abs(ForceFit.Analysis.Comparison.TheoryComparison.Predict(truthInputs, [a], false)[theory][0]) / n.Truth.Runs[0].Run.SpringConstant;
-        return a;
     }
 }
