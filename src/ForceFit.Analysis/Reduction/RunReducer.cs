@@ -279,7 +279,7 @@ public static class RunReducer
         Estimate? referencePotential = null;
         State? previous = null;
         // The V0 slope against separation the model uses within positions: the previous pass's (0 at the very start).
-        double v0Slope = start is null ? 0 : ResidualPotentialSlope(start.Positions, start.ResidualPotentialCovariance);
+        double v0Slope = start is null ? 0 : ResidualPotentialSlope(start.Positions, start.ResidualPotentialCovariance, start.Calibration);
         // The free signal rebuilt from the references corrected with a calibration basis (its z0 and constant).
         (FreeSignalTrack Track, Estimate? ReferenceV0) TrackFrom(State basis, double slope)
         {
@@ -303,7 +303,7 @@ public static class RunReducer
         for (int outer = 0; ; outer++)
         {
             state = GlobalPass(prepared, track, c, electrostatics, sign, shape, frequency, outer == 0 ? start?.Parameters : state.Parameters, variation: start is not null, v0Slope, sensitivity);
-            v0Slope = ResidualPotentialSlope(state.Positions, state.ResidualPotentialCovariance);
+            v0Slope = ResidualPotentialSlope(state.Positions, state.ResidualPotentialCovariance, state.Calibration);
             shape = state.Shape;
             bool settled = previous is not null
                 && Math.Abs(state.GapOffset - previous.GapOffset) < 0.02 * state.Calibration.GapOffset.StatisticalSigma
@@ -500,8 +500,18 @@ public static class RunReducer
         return (new FitResult([b0, b1], p2, Matrices.Bilinear(r, w, r), n - 2, 1, StopReason.ParametersConverged), nearest);
     }
 
-    private static double ResidualPotentialSlope(PositionFit[] positions, double[,] covariance) =>
-        positions.Length < 3 ? 0 : ResidualPotentialLine(positions, covariance).Line.Parameters[1] is var b && double.IsFinite(b) ? b : 0;
+    // The slope of V0 against the actual gap that the model carries within a position: the positions' V0 line with the
+    // fitted drift of V0 in time taken out first. Positions are stepped through the gaps in time order, so the plain
+    // line's slope also holds the time drift (1 mV/h over ~80 s per 200 nm reads as −0.11 mV/um), and within a
+    // position that wrong slope times the sphere's bias-driven deflection (up to ~20 nm at the far, high-bias
+    // positions) shifted the deflection-mode vertices by ~2 uV (measured noise-free; 0.03 uV with the drift taken out).
+    private static double ResidualPotentialSlope(PositionFit[] positions, double[,] covariance, RunCalibration calibration)
+    {
+        if (positions.Length < 3) return 0;
+        double drift = calibration.ResidualPotentialDrift?.Value ?? 0, t0 = positions.Average(p => p.Time);
+        var detrended = positions.Select(p => p with { ResidualPotential = p.ResidualPotential - drift * (p.Time - t0) }).ToArray();
+        return ResidualPotentialLine(detrended, covariance).Line.Parameters[1] is var b && double.IsFinite(b) ? b : 0;
+    }
 
     // V0 against gap along the positions' straight line, fitted once (for the reference correction only); with fewer
     // than three positions their mean.

@@ -8,7 +8,8 @@ namespace ForceFit.Analysis.Tests.Reduction;
 
 /// <summary>
 /// The calibration of deflection-mode voltage-step runs against injected truth: 20 simulated nights with every
-/// imperfection on (including true inputs drawn from their statements). The pulls of z0, k and m must have rms in
+/// imperfection on (including true inputs drawn from their statements). The pulls of z0, k, m and V0 (against the truth
+/// at the resting separation) must have rms in
 /// [0.8, 1.25] and mean within ±0.3, and the reduced force must agree with the true curve (p > 0.01) in at least 90%
 /// of the nights (issue acceptance). Measured: chi2/dof 1.02 and 18 of 20, since V0 follows the sphere's deflected gap
 /// within a position and the free signal's dependence on the calibration is fitted (chi2/dof 1.19 and 16 of 20 before).
@@ -18,7 +19,7 @@ public sealed class DeflectionCalibrationPullTests : TemporaryFolderTest
     private const int Seeds = 20;
 
     [Test]
-    public void Pulls_of_z0_k_and_m_have_unit_rms_over_twenty_deflection_nights()
+    public void Pulls_of_z0_k_m_and_V0_have_unit_rms_over_twenty_deflection_nights()
     {
         var scenario = new Scenario { Mode = SimulatedMode.Deflection, Protocol = SimulatedProtocol.VoltageSteps, Runs = 1 };
         var pulls = SimulatedNight.ReduceEach<(double Z0, double K, double M, double V0, double Chi2PerDof, double CurveP)>(Folder, scenario, 6000, Seeds, n =>
@@ -28,11 +29,7 @@ public sealed class DeflectionCalibrationPullTests : TemporaryFolderTest
                 n.ResidualPotentialPull, c.ChiSquare / c.DegreesOfFreedom, n.CurvePValue);
         });
         using var scope = Assert.EnterMultipleScope();
-        Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("m", pulls.Select(p => p.M)));
-        // Not met yet, so printed and not asserted (open problem, DEVELOPERS.md): V0 at the nearest position comes out
-        // low by ~1 of its sigma (1.5 uV) against the truth at the resting separation (rms 1.38, mean −0.67).
-        double[] v0 = pulls.Select(p => p.V0).ToArray();
-        TestContext.Out.WriteLine($"V0 (not asserted): pull rms {Math.Sqrt(v0.Average(x => x * x)):F3}, mean {v0.Average():F3}");
+        Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("m", pulls.Select(p => p.M)), ("V0", pulls.Select(p => p.V0)));
         int agree = pulls.Count(p => p.CurveP > 0.01);
         TestContext.Out.WriteLine($"calibration chi2/dof: mean {pulls.Average(p => p.Chi2PerDof):F3}; force against the true curve p > 0.01 in {agree} of {Seeds}");
         Assert.That(agree, Is.GreaterThanOrEqualTo(18), "the reduced force agrees with the true curve in at least 90% of nights");
