@@ -9,7 +9,8 @@ namespace ForceFit.Analysis.Tests.Reduction;
 /// with every imperfection on (AR(1) noise, readout noise on the recorded piezo and bias, settling, f0 drift and
 /// random walk, V0 varying with gap and time, a piezo scale drawn from its stated 1 ± 0.005, gap drift, glitches and
 /// dropped samples). The pulls (estimate − truth)/sigma of z0, k and V0 must have rms in [0.8, 1.25] and mean within
-/// ±0.3 (issue acceptance), and the calibration chi-square must be consistent with its degrees of freedom.
+/// ±0.3 (issue acceptance), the calibration chi-square must be consistent with its degrees of freedom, and the reduced
+/// gradient must agree with the true curve (p > 0.01) in at least 90% of the nights.
 /// </summary>
 public sealed class FrequencyCalibrationPullTests : TemporaryFolderTest
 {
@@ -19,7 +20,7 @@ public sealed class FrequencyCalibrationPullTests : TemporaryFolderTest
     public void Pulls_of_z0_k_and_V0_have_unit_rms_over_thirty_simulated_nights()
     {
         var scenario = new Scenario { Mode = SimulatedMode.FrequencyShift, Protocol = SimulatedProtocol.VoltageSteps, Runs = 1 };
-        var pulls = SimulatedNight.ReduceEach<(double Z0, double K, double V0, double Drift, double PValue)>(Folder, scenario, 5000, Seeds, n =>
+        var pulls = SimulatedNight.ReduceEach<(double Z0, double K, double V0, double Drift, double PValue, double CurveP)>(Folder, scenario, 5000, Seeds, n =>
         {
             RunResult result = n.Reduction.Runs[0];
             RunTruth t = n.Truth.Runs[0].Run;
@@ -30,12 +31,17 @@ public sealed class FrequencyCalibrationPullTests : TemporaryFolderTest
             var nearestSteps = n.Truth.Runs[0].Steps.Where(s => !s.IsReference && Math.Abs(s.Piezo - nearest.Piezo) < 1e-9).ToArray();
             double gap = nearestSteps.Average(s => s.MeanGap);
             double v0True = t.ResidualPotential + t.ResidualPotentialGapSlope * (gap - t.ReferenceGapForV0) + t.ResidualPotentialTimeSlope * nearest.Time;
-            return (n.GapOffsetPull, n.SpringConstantPull, (v0 - v0True) / v0Sigma, (c.GapDrift!.Value - t.GapDriftRate) / c.GapDrift.Sigma, c.PValue);
+            return (n.GapOffsetPull, n.SpringConstantPull, (v0 - v0True) / v0Sigma, (c.GapDrift!.Value - t.GapDriftRate) / c.GapDrift.Sigma, c.PValue, n.CurvePValue);
         });
         using var scope = Assert.EnterMultipleScope();
         Pulls.AssertUnitRms(("z0", pulls.Select(p => p.Z0)), ("k", pulls.Select(p => p.K)), ("V0", pulls.Select(p => p.V0)), ("gap drift", pulls.Select(p => p.Drift)));
         int consistent = pulls.Count(p => p.PValue > 0.01);
         TestContext.Out.WriteLine($"calibration p > 0.01 in {consistent} of {Seeds}");
         Assert.That(consistent, Is.GreaterThanOrEqualTo(27), "the calibration chi-square is consistent with its degrees of freedom in at least 90% of nights");
+        // The reduced gradient against the true curve (the truth theory with the night's true inputs), with the
+        // result's own random and systematic covariance.
+        int agree = pulls.Count(p => p.CurveP > 0.01);
+        TestContext.Out.WriteLine($"force gradient against the true curve: p > 0.01 in {agree} of {Seeds}");
+        Assert.That(agree, Is.GreaterThanOrEqualTo(27), "the reduced gradient agrees with the true curve in at least 90% of nights");
     }
 }
