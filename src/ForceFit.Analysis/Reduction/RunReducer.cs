@@ -511,7 +511,7 @@ public static class RunReducer
     // fitted drift of V0 in time taken out first. Positions are stepped through the gaps in time order, so the plain
     // line's slope also holds the time drift (1 mV/h over ~80 s per 200 nm reads as −0.11 mV/um), and within a
     // position that wrong slope times the sphere's bias-driven deflection (up to ~20 nm at the far, high-bias
-    // positions) shifted the deflection-mode vertices by ~2 uV (measured noise-free; 0.03 uV with the drift taken out).
+    // positions) shifted the deflection-mode vertices by ~2 uV (measured noise-free; 0.04 uV with the drift taken out).
     private static double ResidualPotentialSlope(PositionFit[] positions, double[,] covariance, RunCalibration calibration)
     {
         if (positions.Length < 3) return 0;
@@ -665,7 +665,8 @@ public static class RunReducer
             if (q.M != 0)
             {
                 // Deflection mode: the sphere's deflection follows the force across the window rather than staying at
-                // the window's mean (measured noise-free: z0 off by 27 pm at k = 0.05 N/m, 0.8 pm at 5 N/m). Each point
+                // the window's mean (noise-free at k = 0.05 N/m, the reference correction exact: z0 error 71 → 64 pm
+                // with the lag off, 125 → 74 pm with it on; DEVELOPERS.md). Each point
                 // takes obs + (its own signal − the two points' mean), one fixed-point step; the next is of second order
                 // in the deflection's change across the window.
                 double mean = 0.5 * (uLow + uHigh);
