@@ -8,18 +8,23 @@ using ForceFit.Tests.Shared;
 namespace ForceFit.Analysis.Tests.Reduction;
 
 /// <summary>
-/// Noise-free recovery (issue acceptance): a simulated run without imperfections and with the frequency noise
-/// scaled down by 5e6 (HDF5, so no decimal rounding of the samples) must give back the injected z0 to 1 pm, k and
-/// V0 to 1e-6 relative, and the force gradient to 1e-6 of the true curve at the reduced separations — what is
-/// left is the method itself (the A^2/8 amplitude correction from the data's own shape, the Casimir force at the
-/// reference gap, the interpolation tables).
+/// Noise-free recovery (issue acceptance): a simulated run without imperfections and with the signal noise scaled
+/// down by 5e6 (frequency) or 5e8 (deflection) (HDF5, so no decimal rounding of the samples) must give back the
+/// injected z0 to 1 pm, k (and m) and V0 to 1e-6 relative, and the force gradient (or force) to 1e-6 of the true
+/// curve at the reduced separations — what is left is the method itself (the A^2/8 amplitude correction, the Casimir
+/// force at the reference gap, the curve shape, the interpolation tables, the ramp windows).
 /// </summary>
 public sealed class NoiseFreeRecoveryTests : TemporaryFolderTest
 {
-    [Test]
-    public void A_noise_free_frequency_run_is_recovered_to_a_millionth()
+    private sealed record Recovery(double GapOffsetError, double SpringConstantError, double SensitivityError, double ResidualPotentialError, double WorstPoint);
+
+    private Recovery Reduce(SimulatedMode mode, SimulatedProtocol protocol)
     {
-        var scenario = new Scenario { Runs = 1, Imperfections = Imperfections.None, FrequencyNoise = 1e-9 };
+        bool frequency = mode == SimulatedMode.FrequencyShift;
+        var scenario = new Scenario
+        {
+            Mode = mode, Protocol = protocol, Runs = 1, Imperfections = Imperfections.None, FrequencyNoise = 1e-9, DeflectionNoise = 1e-12,
+        };
         string folder = Path.Combine(Folder, "night");
         NightTruth truth = NightSimulator.Simulate(new SimulationRequest(folder, scenario, 3, true, SimulationRequest.DefaultColumns(scenario.Mode, true)));
         // The method in isolation: the settings name only the true theory, so the Casimir force felt by the reference
@@ -30,15 +35,46 @@ public sealed class NoiseFreeRecoveryTests : TemporaryFolderTest
         RunResult result = RunReducer.Reduce(RunSteps.Read(night.Runs[0]));
         RunTruth t = truth.Runs[0].Run;
         RunCalibration c = result.Calibration;
-        double[] curve = TheoryComparison.Predict(night.Runs[0].Theory, result.Separation, frequency: true)[0]; // "Drude" is the truth
+        double[] curve = TheoryComparison.Predict(night.Runs[0].Theory, result.Separation, frequency)[0]; // "Drude" is the truth
         double worst = result.Value.Select((v, i) => Math.Abs(v / curve[i] - 1)).Max();
         var (v0, _, _, _, _) = NightPipeline.ResidualPotential(result);
-        TestContext.Out.WriteLine($"z0 error {(c.GapOffset.Value - t.GapOffset) * 1e12:F3} pm, k {c.SpringConstant.Value / t.SpringConstant - 1:E2}, V0 {v0 / t.ResidualPotential - 1:E2}, worst point {worst:E2}");
-        for (int i = 0; i < curve.Length; i++) TestContext.Out.WriteLine($"  a {result.Separation[i] * 1e9:F2} nm: {result.Value[i] / curve[i] - 1:E2} (amplitude correction {result.AmplitudeCorrection[i]:E2})");
+        var r = new Recovery(c.GapOffset.Value - t.GapOffset, c.SpringConstant.Value / t.SpringConstant - 1,
+            c.Sensitivity is { } m ? m.Value / t.DeflectionSensitivity - 1 : 0, v0 / t.ResidualPotential - 1, worst);
+        TestContext.Out.WriteLine($"z0 error {r.GapOffsetError * 1e12:F3} pm, k {r.SpringConstantError:E2}, m {r.SensitivityError:E2}, V0 {r.ResidualPotentialError:E2}, worst point {worst:E2}, calibration chi2 {c.ChiSquare:G4} for {c.DegreesOfFreedom}");
+        for (int i = 0; i < curve.Length; i += Math.Max(1, curve.Length / 24))
+            TestContext.Out.WriteLine($"  a {result.Separation[i] * 1e9:F2} nm: {result.Value[i] / curve[i] - 1:E2} (amplitude correction {result.AmplitudeCorrection[i]:E2})");
+        return r;
+    }
+
+    [TestCase(SimulatedMode.FrequencyShift)]
+    [TestCase(SimulatedMode.Deflection)]
+    public void A_noise_free_voltage_step_run_is_recovered_to_a_millionth(SimulatedMode mode)
+    {
+        Recovery r = Reduce(mode, SimulatedProtocol.VoltageSteps);
         using var scope = Assert.EnterMultipleScope();
-        Assert.That(Math.Abs(c.GapOffset.Value - t.GapOffset), Is.LessThan(1e-12), "z0 to 1 pm");
-        Assert.That(c.SpringConstant.Value / t.SpringConstant - 1, Is.EqualTo(0).Within(1e-6), "k");
-        Assert.That(v0 / t.ResidualPotential - 1, Is.EqualTo(0).Within(1e-6), "V0");
-        Assert.That(worst, Is.LessThan(1e-6), "force gradient against the true curve");
+        Assert.That(Math.Abs(r.GapOffsetError), Is.LessThan(1e-12), "z0 to 1 pm");
+        Assert.That(r.SpringConstantError, Is.EqualTo(0).Within(1e-6), "k");
+        Assert.That(r.SensitivityError, Is.EqualTo(0).Within(1e-6), "m");
+        Assert.That(r.ResidualPotentialError, Is.EqualTo(0).Within(1e-6), "V0");
+        Assert.That(r.WorstPoint, Is.LessThan(1e-6), "force gradient (or force) against the true curve");
+    }
+
+    /// <summary>
+    /// Distance ramps do not meet the acceptance yet (DEVELOPERS.md, open problems): measured with the three-point
+    /// window rule and the theory-carried curve shape, frequency z0 0.19 pm, k −5.9e-6, worst point 1.7e-4; deflection
+    /// z0 9.2 pm, k −3.7e-4, m 3.3e-4, worst point 1.2e-3. This guards those levels (about twice them) against
+    /// regression; it is not the acceptance.
+    /// </summary>
+    [TestCase(SimulatedMode.FrequencyShift, 1e-12, 1.2e-5, 4e-4)]
+    [TestCase(SimulatedMode.Deflection, 20e-12, 8e-4, 3e-3)]
+    public void A_noise_free_ramp_run_stays_within_its_measured_method_error(SimulatedMode mode, double gapOffset, double constant, double point)
+    {
+        Recovery r = Reduce(mode, SimulatedProtocol.DistanceRamps);
+        using var scope = Assert.EnterMultipleScope();
+        Assert.That(Math.Abs(r.GapOffsetError), Is.LessThan(gapOffset), "z0");
+        Assert.That(Math.Abs(r.SpringConstantError), Is.LessThan(constant), "k");
+        Assert.That(Math.Abs(r.SensitivityError), Is.LessThan(constant), "m");
+        Assert.That(Math.Abs(r.ResidualPotentialError), Is.LessThan(1e-5), "V0");
+        Assert.That(r.WorstPoint, Is.LessThan(point), "force gradient (or force) against the true curve");
     }
 }
