@@ -89,6 +89,41 @@ public static class Matrices
     }
 
     /// <summary>
+    /// The inverse of a covariance and its rank: by Cholesky when it is positive definite; when rounding has left it
+    /// singular (nearly noise-free data, whose shared errors dwarf the diagonal), the pseudo-inverse over the
+    /// eigen-directions whose eigenvalue exceeds 1e-12 of the largest (the others carry no information and are not
+    /// counted: a chi-square with it has Rank degrees of freedom; Golub and Van Loan, Matrix Computations, 5.5.4).
+    /// </summary>
+    public static (double[,] Inverse, int Rank) InverseOrPseudoInverse(double[,] a)
+    {
+        int n = a.GetLength(0);
+        Matrix<double> m = Matrix<double>.Build.DenseOfArray(a);
+        try
+        {
+            Matrix<double> inverse = m.Cholesky().Solve(Matrix<double>.Build.DenseIdentity(n));
+            var r = new double[n, n];
+            for (int i = 0; i < n; i++) for (int k = 0; k < n; k++) r[i, k] = 0.5 * (inverse[i, k] + inverse[k, i]);
+            return (r, n);
+        }
+        catch (ArgumentException)
+        {
+            var evd = m.Evd(MathNet.Numerics.LinearAlgebra.Symmetricity.Symmetric);
+            double[] values = evd.EigenValues.Select(v => v.Real).ToArray();
+            double cutoff = 1e-12 * values.Max(Math.Abs);
+            var r = new double[n, n];
+            int rank = 0;
+            for (int e = 0; e < n; e++)
+            {
+                if (!(values[e] > cutoff)) continue;
+                rank++;
+                for (int i = 0; i < n; i++)
+                    for (int k = 0; k < n; k++) r[i, k] += evd.EigenVectors[i, e] * evd.EigenVectors[k, e] / values[e];
+            }
+            return (r, rank);
+        }
+    }
+
+    /// <summary>
     /// The lower Cholesky factor L of a covariance, C = L L^T; its columns are independent one-sigma error
     /// directions (each column is how every component moves for one standard deviation of one combination).
     /// Zero rows and columns (exactly known components) are allowed.

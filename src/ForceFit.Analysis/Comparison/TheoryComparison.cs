@@ -138,8 +138,11 @@ public static class TheoryComparison
 
             double[] residual = night.Value.Zip(nominal[t], (v, f) => v - f).ToArray();
             double[,] total = Matrices.Add(randomCovariance, band);
-            double chi = Matrices.Bilinear(residual, Matrices.InverseSymmetric(total), residual);
-            double chiRandom = Matrices.Bilinear(residual, Matrices.InverseSymmetric(randomCovariance), residual);
+            // Directions the covariance does not resolve (rounding, nearly noise-free data) are not counted.
+            (double[,] totalInverse, int rank) = Matrices.InverseOrPseudoInverse(total);
+            (double[,] randomInverse, int randomRank) = Matrices.InverseOrPseudoInverse(randomCovariance);
+            double chi = Matrices.Bilinear(residual, totalInverse, residual);
+            double chiRandom = Matrices.Bilinear(residual, randomInverse, residual);
 
             (double[] low, double[] high, double[] mcSigma) = Percentiles(drawn, t, n);
             var disagreement = new List<double>();
@@ -154,7 +157,7 @@ public static class TheoryComparison
             FittedValue? shift = FitGapShift(inputs, t, night, total, a);
             var named = sources.GroupBy(s => s.Name).Select(g => (g.Key, Enumerable.Range(0, n).Select(i => Math.Sqrt(g.Sum(s => s.Row[i] * s.Row[i]))).ToArray())).ToArray();
             results[t] = new TheoryResult(inputs.Theories[t].Name, nominal[t], linear, low, high, mcSigma, disagreement.ToArray(),
-                chi, n, Statistics.ChiSquareSurvival(chi, n), chiRandom, Statistics.ChiSquareSurvival(chiRandom, n), theta, shift, named);
+                chi, rank, Statistics.ChiSquareSurvival(chi, rank), chiRandom, Statistics.ChiSquareSurvival(chiRandom, randomRank), theta, shift, named);
         }
         return results;
     }
@@ -248,7 +251,7 @@ public static class TheoryComparison
         string thetaName = parameters.FirstOrDefault(p => p.Name == "beyond-PFA coefficient")?.Name ?? "";
         double[,] c = Matrices.Add(random, Matrices.OuterSum(sources.Where(s => s.Name != thetaName).Select(s => s.Row), n));
         double[] g = Enumerable.Range(0, n).Select(i => prediction[i] * (a[i] / radius) / (1 + theta0 * a[i] / radius)).ToArray();
-        double[,] inverse = Matrices.InverseSymmetric(c);
+        double[,] inverse = Matrices.InverseOrPseudoInverse(c).Inverse;
         double gg = Matrices.Bilinear(g, inverse, g), gr = Matrices.Bilinear(g, inverse, residual);
         double step = gr / gg;
         double[] after = residual.Select((r, i) => r - step * g[i]).ToArray();
@@ -261,7 +264,7 @@ public static class TheoryComparison
     {
         int n = a.Length;
         if (n < 2) return null;
-        double[,] inverse = Matrices.InverseSymmetric(covariance);
+        double[,] inverse = Matrices.InverseOrPseudoInverse(covariance).Inverse;
         PreparedTheory[] theory = [TheoryModels.Prepare(inputs)[t]];
         double delta = 0, sigma = double.NaN, chi = double.NaN;
         const double h = 0.2e-9;

@@ -281,12 +281,14 @@ public static class NightCombiner
             }
         }
         for (int i = 0; i < k; i++) delta[i] += parts[r].Values[points[i]];
-        double chi = Matrices.Bilinear(delta, Matrices.InverseSymmetric(cov), delta);
-        double p = Statistics.ChiSquareSurvival(chi, k);
+        // Directions the covariance does not resolve (rounding, nearly noise-free data) are not counted.
+        (double[,] inverse, int rank) = Matrices.InverseOrPseudoInverse(cov);
+        double chi = Matrices.Bilinear(delta, inverse, delta);
+        double p = Statistics.ChiSquareSurvival(chi, rank);
         if (p >= FlagProbability) return new RunConsistency(runs[r].Run, k, chi, p, false, null);
         int worst = Enumerable.Range(0, k).MaxBy(i => Math.Abs(delta[i]) / Math.Sqrt(cov[i, i]));
         string reason = FormattableString.Invariant(
-            $"{runs[r].Run} disagrees with the other runs: chi2 = {chi:F1} for {k} points (p = {p:G2}); the largest difference is {delta[worst] / Math.Sqrt(cov[worst, worst]):F1} sigma at {grid[points[worst]] * 1e9:F1} nm");
+            $"{runs[r].Run} disagrees with the other runs: chi2 = {chi:F1} for {k} points{(rank < k ? $" ({rank} resolved)" : "")} (p = {p:G2}); the largest difference is {delta[worst] / Math.Sqrt(cov[worst, worst]):F1} sigma at {grid[points[worst]] * 1e9:F1} nm");
         return new RunConsistency(runs[r].Run, k, chi, p, true, reason);
     }
 

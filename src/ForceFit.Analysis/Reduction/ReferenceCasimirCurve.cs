@@ -46,5 +46,23 @@ public sealed class ReferenceCasimirCurve
         return (value, dx / (gap * Step), (dxx / (Step * Step) - dx / Step) / (gap * gap));
     }
 
-    private double Node(long index) => nodes.GetOrAdd(index, j => perTheory(Math.Exp(j * Step)).Average());
+    // Nodes for gaps from 0.1 nm to 1 m sit in a flat array (NaN until first asked for; two threads asking at once both
+    // compute the same value), the rare others in the dictionary: the fits ask millions of times per run.
+    private double Node(long index)
+    {
+        long slot = index - FirstFlatNode;
+        if (slot < 0 || slot >= flat.Length) return nodes.GetOrAdd(index, Compute);
+        double value = Volatile.Read(ref flat[slot]);
+        if (double.IsNaN(value))
+        {
+            value = Compute(index);
+            Volatile.Write(ref flat[slot], value);
+        }
+        return value;
+    }
+
+    private double Compute(long index) => perTheory(Math.Exp(index * Step)).Average();
+
+    private const long FirstFlatNode = -5895; // floor(ln(1e-10) / Step)
+    private readonly double[] flat = Enumerable.Repeat(double.NaN, 5896).ToArray();
 }

@@ -1,3 +1,4 @@
+using System.Collections.Concurrent;
 using ForceFit.Core.Problems;
 using ForceFit.Core.Units;
 using ForceFit.Fitting;
@@ -46,13 +47,10 @@ public static class RunReducer
         Prepared prepared = Prepare(segments, warnings);
         var nominal = Constants(run) with { Lag = prepared.Lag, LagStep = prepared.SampleInterval };
         Core core = Compute(prepared, nominal, null, warnings);
-        var sources = new List<SystematicSource> { core.CalibrationSource };
+        var variations = new List<(string Name, RunConstants Up, RunConstants Down, bool Shared)>();
         void Vary(string name, Func<RunConstants, double, RunConstants> with, double sigma, bool shared)
         {
-            if (!(sigma > 0)) return;
-            Core up = Compute(prepared, with(nominal, +sigma), core, null);
-            Core down = Compute(prepared, with(nominal, -sigma), core, null);
-            sources.Add(Difference(name, core, up, down, shared));
+            if (sigma > 0) variations.Add((name, with(nominal, +sigma), with(nominal, -sigma), shared));
         }
         // The piezo scale is the same physical piezo for every run of a night: a shared systematic, varied by its stated
         // sigma with z0 and k refitted (fitting it per run with its statement as a prior would count the prior once per run
@@ -70,6 +68,12 @@ public static class RunReducer
         if (prepared.Lag != 0) Vary("signal filter step", (c, d) => c with { LagStep = c.LagStep + d }, prepared.SampleInterval, false);
         if (run.Instrument.SpringConstant is { } k) Vary("spring constant (given)", (c, d) => c with { SpringConstant = k.Value + d }, k.Sigma, false);
         if (run.Instrument.DeflectionSensitivity is { } m) Vary("deflection sensitivity (given)", (c, d) => c with { Sensitivity = m.Value + d }, m.Sigma, false);
+        // The re-runs are independent (each starts from the nominal reduction, which none of them changes): computed in
+        // parallel, kept in the order above.
+        var varied = new Core[2 * variations.Count];
+        Parallel.For(0, varied.Length, i => varied[i] = Compute(prepared, i % 2 == 0 ? variations[i / 2].Up : variations[i / 2].Down, core, null));
+        var sources = new List<SystematicSource> { core.CalibrationSource };
+        sources.AddRange(variations.Select((v, i) => Difference(v.Name, core, varied[2 * i], varied[2 * i + 1], v.Shared)));
 
         Estimate Total(double value, double statistical, Func<SystematicSource, double[]> part) =>
             new(value, Math.Sqrt(statistical * statistical + sources.Skip(1).Sum(s => part(s).Sum(v => v * v))), statistical);
@@ -92,13 +96,20 @@ public static class RunReducer
     // The reference steps are not force-free: at a few micrometres the Casimir gradient is still ~1e-4 of its value at
     // 1 um, which biases f0 (or S_free) and hence every far point. It is taken from the settings' theories — their mean,
     // which reduces the dependence on which one is right — at the reference gap of each pass.
+    // The runs of a night share their theory settings, so the curve (tabulated as the fits ask) is shared too.
     private static ReferenceCasimirCurve? ReferenceCasimir(RunSettings run)
     {
         if (run.Theory.Theories.Count == 0) return null;
-        IReadOnlyList<PreparedTheory> theories = TheoryModels.Prepare(run.Theory);
         bool frequency = run.Instrument.Mode == InstrumentMode.FrequencyShift;
-        return new ReferenceCasimirCurve(a => theories.Select(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; }).ToArray());
+        string key = $"{(frequency ? "gradient" : "force")}\n{TheoryModels.Fingerprint(run.Theory)}";
+        return CasimirCurves.GetOrAdd(key, _ => new Lazy<ReferenceCasimirCurve>(() =>
+        {
+            IReadOnlyList<PreparedTheory> theories = TheoryModels.Prepare(run.Theory);
+            return new ReferenceCasimirCurve(a => theories.Select(t => { TheoryRow row = t.At(a); return frequency ? row.ForceGradient : row.Force; }).ToArray());
+        })).Value;
     }
+
+    private static readonly ConcurrentDictionary<string, Lazy<ReferenceCasimirCurve>> CasimirCurves = new();
 
     // The settings' theories' mean as the carrier of the data's curve shape (CurveShape), when there are theories.
     private static Func<double, (double, double, double)>? Carrier(RunConstants c) => c.ReferenceCasimir is { } theories ? theories.MeanWithDerivatives : null;
@@ -407,18 +418,17 @@ public static class RunReducer
             }
             return force;
         }
+        // What the recorded signal averages, per unit of the free value: f/f0 = sqrt(1 − F'/k) (frequency; the mean of
+        // f is taken, not of 1 − (f/f0)^2, which differs by the window's variance), or the force (deflection, linear).
+        double Response(double reading) => frequency ? Math.Sqrt(1 - Felt(reading) / s.Kappa) : Felt(reading);
         double Averaged() => r.Parts is { } parts
-            ? parts.Sum(part => part.Weight * LaggedWindow.Rule(part.Reading, part.Moments, r.Speed, c.Lag, c.LagStep).Apply(Felt))
-            : LaggedWindow.Rule(r.Piezo, r.Moments, r.Speed, c.Lag, c.LagStep).Apply(Felt);
-        double felt = r.Moments.Second == 0 && r.Speed == 0 ? Felt(r.Piezo) : Averaged();
-        if (frequency)
-        {
-            // f_ref = f0 sqrt(1 − (<G>(a)(V − V0)^2 + F'_Casimir(a)) / k)  =>  f0 = f_ref / sqrt(1 − y)
-            double y = felt / s.Kappa;
-            return double.IsFinite(y) ? r.Mean / Math.Sqrt(1 - y) : r.Mean;
-        }
+            ? parts.Sum(part => part.Weight * LaggedWindow.Rule(part.Reading, part.Moments, r.Speed, c.Lag, c.LagStep).Apply(Response))
+            : LaggedWindow.Rule(r.Piezo, r.Moments, r.Speed, c.Lag, c.LagStep).Apply(Response);
+        double mean = r.Moments.Second == 0 && r.Speed == 0 ? Response(r.Piezo) : Averaged();
+        // f_ref = f0 <sqrt(1 − (<G>(a)(V − V0)^2 + F'_Casimir(a)) / k)>  =>  f0 = f_ref / <sqrt(1 − y)>
+        if (frequency) return double.IsFinite(mean) && mean > 0 ? r.Mean / mean : r.Mean;
         // S_ref = S_free + u with u = −(E(a)(V − V0)^2 + F_Casimir(a)) / (k m)
-        double u = -felt / s.Kappa;
+        double u = -mean / s.Kappa;
         return double.IsFinite(u) ? r.Mean - u : r.Mean;
     }
 
@@ -545,6 +555,8 @@ public static class RunReducer
 
     // ---------------------------------------------------------------- the calibration fit (both modes)
 
+    private static double Square(double x) => x * x;
+
     // Rows after the points in the joint output vector: z0, instrument constant (k, or kappa = k m in deflection
     // mode), m, gap drift v, V0 drift rate.
     private const int CalibrationRows = 5;
@@ -563,7 +575,9 @@ public static class RunReducer
     private static State GlobalPass(Prepared prepared, FreeSignalTrack track, RunConstants c, ElectrostaticTable e, int sign,
         CurveShape? shape, bool frequency, double[]? from, bool variation, double v0Slope, TrackSensitivity? sensitivity)
     {
-        StepPoint[] steps = prepared.Steps;
+        // A copy: the readout-error derivatives below move one step at a time, and the systematic re-runs share the
+        // prepared steps across threads.
+        StepPoint[] steps = (StepPoint[])prepared.Steps.Clone();
         int[][] groups = prepared.Groups;
         int n = steps.Length, np = groups.Length;
         var obs = new double[n];
@@ -682,7 +696,13 @@ public static class RunReducer
                 if (rule.W1 != 0) u1 = At(rule.X1, obs[i] + u1 - mean);
                 if (rule.W2 != 0) u2 = At(rule.X2, obs[i] + u2 - mean);
             }
-            return rule.W0 * u0 + rule.W1 * u1 + rule.W2 * u2 - trackMove;
+            // Frequency mode: the window's recorded mean is of f = f0 sqrt(1 − y), so the observable of that mean is
+            // 1 − <sqrt(1 − y)>^2, larger than <y> by about the variance of y over the window / 4 (2e-9 in the nearest
+            // 2 nm bins, which noise-free outweighed everything else in the fit).
+            double windowed = frequency
+                ? 1 - Square(rule.W0 * Math.Sqrt(1 - u0) + (rule.W1 != 0 ? rule.W1 * Math.Sqrt(1 - u1) : 0) + (rule.W2 != 0 ? rule.W2 * Math.Sqrt(1 - u2) : 0))
+                : rule.W0 * u0 + rule.W1 * u1 + rule.W2 * u2;
+            return windowed - trackMove;
         }
         // Generalised least squares with the full covariance of the observations: noise, the free signal's shared
         // errors and random walk, and the recorded channels' readout errors carried through

@@ -87,6 +87,33 @@ public static class TheoryModels
             .ToArray();
     }
 
+    /// <summary>
+    /// A text that is equal for two inputs exactly when they prepare the same theories: the sphere's radius, the surfaces
+    /// (temperature, roughness, theta), and each theory's two materials in full (with the size and time of any file they
+    /// read); the title and the theories' names do not enter. Runs of a night share the night's theory settings, so a
+    /// cache keyed by it computes each theory once per night.
+    /// </summary>
+    public static string Fingerprint(TheoryInputs inputs)
+    {
+        static string Stamp(string? path)
+        {
+            if (path is null) return "-";
+            var info = new FileInfo(path);
+            return $"{Path.GetFullPath(path)}|{(info.Exists ? info.Length : -1)}|{(info.Exists ? info.LastWriteTimeUtc.Ticks : 0)}";
+        }
+        static string Surface(Roughness r) => $"{r.Rms}|{Stamp(r.HistogramPath)}";
+        string Material(string name)
+        {
+            MaterialSettings m = inputs.Materials[name];
+            string oscillators = string.Join(";", m.Oscillators.Select(o => $"{o.Strength}/{o.Frequency}/{o.Damping}"));
+            return $"{m.Model}|{m.PlasmaFrequency}|{m.Damping}|{oscillators}|{m.EpsInf}|{Stamp(m.TablePath)}|{m.Tail}";
+        }
+        SurfaceSettings s = inputs.Surfaces;
+        var parts = new List<string> { $"{inputs.Sphere.Radius}", $"{s.Temperature}", Surface(s.SphereRoughness), Surface(s.PlateRoughness), $"{s.PfaCorrection}" };
+        parts.AddRange(inputs.Theories.Select(t => $"{Material(t.Sphere)}#{Material(t.Plate)}"));
+        return string.Join("\n", parts);
+    }
+
     /// <summary>Evaluates every theory at every separation, in parallel over separations; rows ordered by theory then separation.</summary>
     public static IReadOnlyList<TheoryRow> Evaluate(IReadOnlyList<PreparedTheory> theories, IReadOnlyList<double> separations)
     {

@@ -60,21 +60,59 @@ public sealed class NoiseFreeRecoveryTests : TemporaryFolderTest
     }
 
     /// <summary>
-    /// Distance ramps do not meet the acceptance yet (DEVELOPERS.md, open problems): measured with the three-point
-    /// window rule and the theory-carried curve shape, frequency z0 0.19 pm, k −5.9e-6, worst point 1.7e-4; deflection
-    /// z0 9.2 pm, k −3.7e-4, m 3.3e-4, worst point 1.2e-3. This guards those levels (about twice them) against
-    /// regression; it is not the acceptance.
+    /// Frequency ramps: the calibration meets the acceptance (measured z0 0.054 pm, k −8.2e-7, V0 −3.4e-9), asserted;
+    /// the far points do not yet (DEVELOPERS.md, open problems): 1e-6 relative at 300 nm rising to 1.6e-4 at 1.4 um, where
+    /// the signal is 5e-7 of f0 and the references' f0, corrected with k, carries k's −8e-7 into every far point. The
+    /// point bound guards that level (about twice it) against regression; it is not the acceptance.
     /// </summary>
-    [TestCase(SimulatedMode.FrequencyShift, 1e-12, 1.2e-5, 4e-4)]
-    [TestCase(SimulatedMode.Deflection, 20e-12, 8e-4, 3e-3)]
-    public void A_noise_free_ramp_run_stays_within_its_measured_method_error(SimulatedMode mode, double gapOffset, double constant, double point)
+    [Test]
+    public void A_noise_free_frequency_ramp_run_gives_the_calibration_to_a_millionth()
     {
-        Recovery r = Reduce(mode, SimulatedProtocol.DistanceRamps);
+        Recovery r = Reduce(SimulatedMode.FrequencyShift, SimulatedProtocol.DistanceRamps);
         using var scope = Assert.EnterMultipleScope();
-        Assert.That(Math.Abs(r.GapOffsetError), Is.LessThan(gapOffset), "z0");
-        Assert.That(Math.Abs(r.SpringConstantError), Is.LessThan(constant), "k");
-        Assert.That(Math.Abs(r.SensitivityError), Is.LessThan(constant), "m");
+        Assert.That(Math.Abs(r.GapOffsetError), Is.LessThan(1e-12), "z0 to 1 pm");
+        Assert.That(r.SpringConstantError, Is.EqualTo(0).Within(1e-6), "k");
+        Assert.That(r.ResidualPotentialError, Is.EqualTo(0).Within(1e-6), "V0");
+        Assert.That(r.WorstPoint, Is.LessThan(3e-4), "force gradient against the true curve (regression guard, not the acceptance)");
+    }
+
+    /// <summary>
+    /// Deflection ramps do not meet the acceptance yet (DEVELOPERS.md, open problems): measured z0 9.2 pm, k −3.7e-4,
+    /// m 3.3e-4, worst point 1.2e-3. This guards those levels (about twice them) against regression; it is not the acceptance.
+    /// </summary>
+    [Test]
+    public void A_noise_free_deflection_ramp_run_stays_within_its_measured_method_error()
+    {
+        Recovery r = Reduce(SimulatedMode.Deflection, SimulatedProtocol.DistanceRamps);
+        using var scope = Assert.EnterMultipleScope();
+        Assert.That(Math.Abs(r.GapOffsetError), Is.LessThan(20e-12), "z0");
+        Assert.That(Math.Abs(r.SpringConstantError), Is.LessThan(8e-4), "k");
+        Assert.That(Math.Abs(r.SensitivityError), Is.LessThan(8e-4), "m");
         Assert.That(Math.Abs(r.ResidualPotentialError), Is.LessThan(1e-5), "V0");
-        Assert.That(r.WorstPoint, Is.LessThan(point), "force gradient (or force) against the true curve");
+        Assert.That(r.WorstPoint, Is.LessThan(3e-3), "force against the true curve");
+    }
+
+    /// <summary>
+    /// The whole night of a noise-free frequency ramp run: its covariance is singular to rounding (shared errors dwarf a
+    /// noise of 1e-9 Hz), which stopped the comparison with "Matrix must be positive definite"; the comparison now counts
+    /// only the directions the covariance resolves, and the true theory's chi-square is finite with at least one degree of freedom.
+    /// </summary>
+    [Test]
+    public void A_noise_free_night_is_compared_over_the_directions_its_covariance_resolves()
+    {
+        var scenario = new Scenario
+        {
+            Mode = SimulatedMode.FrequencyShift, Protocol = SimulatedProtocol.DistanceRamps, Runs = 1, Imperfections = Imperfections.None, FrequencyNoise = 1e-9,
+        };
+        string folder = Path.Combine(Folder, "night");
+        NightSimulator.Simulate(new SimulationRequest(folder, scenario, 3, true, SimulationRequest.DefaultColumns(scenario.Mode, true)));
+        string toml = File.ReadAllText(Path.Combine(folder, "night.toml"));
+        File.WriteAllText(Path.Combine(folder, "night.toml"), toml[..toml.LastIndexOf("[[theory]]", StringComparison.Ordinal)]);
+        NightReduction night = NightPipeline.Reduce(RunFileReader.ReadNight(folder), new ComparisonOptions(0, 1));
+        TheoryResult truth = night.Comparison.Single();
+        TestContext.Out.WriteLine($"chi2 {truth.ChiSquare:G4} for {truth.DegreesOfFreedom} of {truth.Value.Length} points");
+        using var scope = Assert.EnterMultipleScope();
+        Assert.That(double.IsFinite(truth.ChiSquare), Is.True, "chi-square");
+        Assert.That(truth.DegreesOfFreedom, Is.InRange(1, truth.Value.Length), "degrees of freedom: the resolved directions");
     }
 }
