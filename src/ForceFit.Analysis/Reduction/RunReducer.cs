@@ -47,10 +47,13 @@ public static class RunReducer
         Prepared prepared = Prepare(segments, warnings);
         var nominal = Constants(run) with { Lag = prepared.Lag, LagStep = prepared.SampleInterval };
         Core core = Compute(prepared, nominal, null, warnings);
-        var variations = new List<(string Name, RunConstants Up, RunConstants Down, bool Shared)>();
+        var sources = new List<SystematicSource> { core.CalibrationSource };
         void Vary(string name, Func<RunConstants, double, RunConstants> with, double sigma, bool shared)
         {
-            if (sigma > 0) variations.Add((name, with(nominal, +sigma), with(nominal, -sigma), shared));
+            if (!(sigma > 0)) return;
+            Core up = Compute(prepared, with(nominal, +sigma), core, null);
+            Core down = Compute(prepared, with(nominal, -sigma), core, null);
+            sources.Add(Difference(name, core, up, down, shared));
         }
         // The piezo scale is the same physical piezo for every run of a night: a shared systematic, varied by its stated
         // sigma with z0 and k refitted (fitting it per run with its statement as a prior would count the prior once per run
@@ -68,12 +71,6 @@ public static class RunReducer
         if (prepared.Lag != 0) Vary("signal filter step", (c, d) => c with { LagStep = c.LagStep + d }, prepared.SampleInterval, false);
         if (run.Instrument.SpringConstant is { } k) Vary("spring constant (given)", (c, d) => c with { SpringConstant = k.Value + d }, k.Sigma, false);
         if (run.Instrument.DeflectionSensitivity is { } m) Vary("deflection sensitivity (given)", (c, d) => c with { Sensitivity = m.Value + d }, m.Sigma, false);
-        // The re-runs are independent (each starts from the nominal reduction, which none of them changes): computed in
-        // parallel, kept in the order above.
-        var varied = new Core[2 * variations.Count];
-        Parallel.For(0, varied.Length, i => varied[i] = Compute(prepared, i % 2 == 0 ? variations[i / 2].Up : variations[i / 2].Down, core, null));
-        var sources = new List<SystematicSource> { core.CalibrationSource };
-        sources.AddRange(variations.Select((v, i) => Difference(v.Name, core, varied[2 * i], varied[2 * i + 1], v.Shared)));
 
         Estimate Total(double value, double statistical, Func<SystematicSource, double[]> part) =>
             new(value, Math.Sqrt(statistical * statistical + sources.Skip(1).Sum(s => part(s).Sum(v => v * v))), statistical);
@@ -582,8 +579,7 @@ public static class RunReducer
     private static State GlobalPass(Prepared prepared, FreeSignalTrack track, RunConstants c, ElectrostaticTable e, int sign,
         CurveShape? shape, bool frequency, double[]? from, bool variation, double v0Slope, TrackSensitivity? sensitivity)
     {
-        // A copy: the readout-error derivatives below move one step at a time, and the systematic re-runs share the
-        // prepared steps across threads.
+        // A copy: the readout-error derivatives below move one step at a time (the prepared steps stay untouched).
         StepPoint[] steps = (StepPoint[])prepared.Steps.Clone();
         int[][] groups = prepared.Groups;
         int n = steps.Length, np = groups.Length;
