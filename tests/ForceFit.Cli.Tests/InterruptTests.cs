@@ -21,8 +21,11 @@ public sealed class InterruptTests : TemporaryFolderTest
         NightSimulator.Simulate(new SimulationRequest(night, scenario, 12, false, SimulationRequest.DefaultColumns(scenario.Mode, false)));
         string report = Path.Combine(Folder, "report");
         string tool = typeof(Commands).Assembly.Location; // forcefit.dll beside the tests
-        var start = new ProcessStartInfo("dotnet") { RedirectStandardError = true, RedirectStandardOutput = true, UseShellExecute = false };
-        foreach (string a in new[] { tool, "reduce", night, "--out", report, "--draws", "1000000" }) start.ArgumentList.Add(a);
+        // A process started in the background by a non-interactive shell (as CI may be) inherits SIGINT ignored, and the
+        // child would too; GNU env (coreutils 8.31+) resets it to the default before starting dotnet.
+        bool reset = DefaultSignalSupported();
+        var start = new ProcessStartInfo(reset ? "env" : "dotnet") { RedirectStandardError = true, RedirectStandardOutput = true, UseShellExecute = false };
+        foreach (string a in (reset ? new[] { "--default-signal=INT", "dotnet" } : []).Concat([tool, "reduce", night, "--out", report, "--draws", "1000000"])) start.ArgumentList.Add(a);
         using var process = Process.Start(start)!;
         var errors = new System.Text.StringBuilder();
         var inMonteCarlo = new ManualResetEventSlim();
@@ -47,5 +50,19 @@ public sealed class InterruptTests : TemporaryFolderTest
         lock (errors) Assert.That(errors.ToString(), Does.Contain("stopped: cancelled"));
         Assert.That(Directory.Exists(report), Is.False, "no report folder");
         Assert.That(Directory.GetDirectories(Folder).Select(Path.GetFileName), Is.EquivalentTo(new[] { "night" }), "no partial folder");
+    }
+
+    private static bool DefaultSignalSupported()
+    {
+        try
+        {
+            using var probe = Process.Start(new ProcessStartInfo("env", ["--default-signal=INT", "true"]) { RedirectStandardError = true, UseShellExecute = false })!;
+            probe.WaitForExit();
+            return probe.ExitCode == 0;
+        }
+        catch (System.ComponentModel.Win32Exception)
+        {
+            return false;
+        }
     }
 }
