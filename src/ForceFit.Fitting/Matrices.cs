@@ -97,17 +97,13 @@ public static class Matrices
     public static (double[,] Inverse, int Rank) InverseOrPseudoInverse(double[,] a)
     {
         int n = a.GetLength(0);
-        Matrix<double> m = Matrix<double>.Build.DenseOfArray(a);
         try
         {
-            Matrix<double> inverse = m.Cholesky().Solve(Matrix<double>.Build.DenseIdentity(n));
-            var r = new double[n, n];
-            for (int i = 0; i < n; i++) for (int k = 0; k < n; k++) r[i, k] = 0.5 * (inverse[i, k] + inverse[k, i]);
-            return (r, n);
+            return (InverseSymmetric(a), n);
         }
         catch (ArgumentException)
         {
-            var evd = m.Evd(MathNet.Numerics.LinearAlgebra.Symmetricity.Symmetric);
+            var evd = Matrix<double>.Build.DenseOfArray(a).Evd(MathNet.Numerics.LinearAlgebra.Symmetricity.Symmetric);
             double[] values = evd.EigenValues.Select(v => v.Real).ToArray();
             double cutoff = 1e-12 * values.Max(Math.Abs);
             var r = new double[n, n];
