@@ -9,20 +9,12 @@ namespace ForceFit.Fitting.Tests;
 /// </summary>
 public sealed class PseudoInverseTests
 {
-    private static double[,] Product(double[,] a, double[,] b)
-    {
-        int n = a.GetLength(0), m = b.GetLength(1), k = a.GetLength(1);
-        var r = new double[n, m];
-        for (int i = 0; i < n; i++) for (int j = 0; j < m; j++) for (int q = 0; q < k; q++) r[i, j] += a[i, q] * b[q, j];
-        return r;
-    }
-
     [Test]
     public void A_positive_definite_matrix_gets_its_inverse_and_full_rank()
     {
         double[,] a = { { 4, 1, 0.5 }, { 1, 3, 0.2 }, { 0.5, 0.2, 2 } };
         (double[,] inverse, int rank) = Matrices.InverseOrPseudoInverse(a);
-        double[,] identity = Product(a, inverse);
+        double[,] identity = Matrices.Multiply(a, inverse);
         Assert.That(rank, Is.EqualTo(3));
         for (int i = 0; i < 3; i++) for (int j = 0; j < 3; j++) Assert.That(identity[i, j], Is.EqualTo(i == j ? 1 : 0).Within(1e-14));
     }
@@ -36,7 +28,7 @@ public sealed class PseudoInverseTests
         for (int i = 0; i < 4; i++) for (int j = 0; j < 4; j++) a[i, j] = u[i] * u[j] + v[i] * v[j];
         (double[,] pseudo, int rank) = Matrices.InverseOrPseudoInverse(a);
         Assert.That(rank, Is.EqualTo(2));
-        double[,] back = Product(Product(a, pseudo), a), again = Product(Product(pseudo, a), pseudo);
+        double[,] back = Matrices.Multiply(Matrices.Multiply(a, pseudo), a), again = Matrices.Multiply(Matrices.Multiply(pseudo, a), pseudo);
         for (int i = 0; i < 4; i++)
             for (int j = 0; j < 4; j++)
             {

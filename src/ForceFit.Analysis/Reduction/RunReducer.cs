@@ -579,8 +579,7 @@ public static class RunReducer
     private static State GlobalPass(Prepared prepared, FreeSignalTrack track, RunConstants c, ElectrostaticTable e, int sign,
         CurveShape? shape, bool frequency, double[]? from, bool variation, double v0Slope, TrackSensitivity? sensitivity)
     {
-        // A copy: the readout-error derivatives below move one step at a time (the prepared steps stay untouched).
-        StepPoint[] steps = (StepPoint[])prepared.Steps.Clone();
+        StepPoint[] steps = prepared.Steps;
         int[][] groups = prepared.Groups;
         int n = steps.Length, np = groups.Length;
         var obs = new double[n];

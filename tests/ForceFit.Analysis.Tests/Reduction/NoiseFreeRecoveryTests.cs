@@ -18,19 +18,25 @@ public sealed class NoiseFreeRecoveryTests : TemporaryFolderTest
 {
     private sealed record Recovery(double GapOffsetError, double SpringConstantError, double SensitivityError, double ResidualPotentialError, double WorstPoint);
 
-    private Recovery Reduce(SimulatedMode mode, SimulatedProtocol protocol)
+    // A noise-free night of one run (seed 3, HDF5) whose settings name only the true theory: the method in isolation,
+    // so the Casimir force felt by the reference steps (taken from the settings' theories) is the true one.
+    private (string Folder, NightTruth Truth) NoiseFreeNight(SimulatedMode mode, SimulatedProtocol protocol)
     {
-        bool frequency = mode == SimulatedMode.FrequencyShift;
         var scenario = new Scenario
         {
             Mode = mode, Protocol = protocol, Runs = 1, Imperfections = Imperfections.None, FrequencyNoise = 1e-9, DeflectionNoise = 1e-12,
         };
         string folder = Path.Combine(Folder, "night");
         NightTruth truth = NightSimulator.Simulate(new SimulationRequest(folder, scenario, 3, true, SimulationRequest.DefaultColumns(scenario.Mode, true)));
-        // The method in isolation: the settings name only the true theory, so the Casimir force felt by the reference
-        // steps (taken from the settings' theories) is the true one.
         string toml = File.ReadAllText(Path.Combine(folder, "night.toml"));
         File.WriteAllText(Path.Combine(folder, "night.toml"), toml[..toml.LastIndexOf("[[theory]]", StringComparison.Ordinal)]);
+        return (folder, truth);
+    }
+
+    private Recovery Reduce(SimulatedMode mode, SimulatedProtocol protocol)
+    {
+        bool frequency = mode == SimulatedMode.FrequencyShift;
+        (string folder, NightTruth truth) = NoiseFreeNight(mode, protocol);
         NightSettings night = RunFileReader.ReadNight(folder);
         RunResult result = RunReducer.Reduce(RunSteps.Read(night.Runs[0]));
         RunTruth t = truth.Runs[0].Run;
@@ -69,14 +75,7 @@ public sealed class NoiseFreeRecoveryTests : TemporaryFolderTest
     [Test]
     public void A_noise_free_night_is_compared_over_the_directions_its_covariance_resolves()
     {
-        var scenario = new Scenario
-        {
-            Mode = SimulatedMode.FrequencyShift, Protocol = SimulatedProtocol.DistanceRamps, Runs = 1, Imperfections = Imperfections.None, FrequencyNoise = 1e-9,
-        };
-        string folder = Path.Combine(Folder, "night");
-        NightSimulator.Simulate(new SimulationRequest(folder, scenario, 3, true, SimulationRequest.DefaultColumns(scenario.Mode, true)));
-        string toml = File.ReadAllText(Path.Combine(folder, "night.toml"));
-        File.WriteAllText(Path.Combine(folder, "night.toml"), toml[..toml.LastIndexOf("[[theory]]", StringComparison.Ordinal)]);
+        (string folder, _) = NoiseFreeNight(SimulatedMode.FrequencyShift, SimulatedProtocol.DistanceRamps);
         NightReduction night = NightPipeline.Reduce(RunFileReader.ReadNight(folder), new ComparisonOptions(0, 1));
         TheoryResult truth = night.Comparison.Single();
         TestContext.Out.WriteLine($"chi2 {truth.ChiSquare:G4} for {truth.DegreesOfFreedom} of {truth.Value.Length} points");
