@@ -53,7 +53,7 @@ public static class RunReducer
             if (!(sigma > 0)) return;
             Core up = Compute(prepared, with(nominal, +sigma), core, null);
             Core down = Compute(prepared, with(nominal, -sigma), core, null);
-            sources.Add(Difference(name, core, up, down, shared));
+            sources.Add(Difference(name, core, up, down, shared) with { Step = sigma });
         }
         // The piezo scale is the same physical piezo for every run of a night: a shared systematic, varied by its stated
         // sigma with z0 and k refitted (fitting it per run with its statement as a prior would count the prior once per run
@@ -83,7 +83,10 @@ public static class RunReducer
         };
         // Compute wrote the nominal pass's warnings into this list already (core.Warnings is the same list).
         return new RunResult(run.Name, calibration, core.Positions, core.Separation, core.Value, core.PointTime, core.RandomCovariance, sources,
-            core.Track, core.ResidualPotentialCovariance, core.AmplitudeCorrection, warnings);
+            core.Track, core.ResidualPotentialCovariance, core.AmplitudeCorrection, warnings)
+        {
+            ReferenceGap = core.ReferenceGaps.Length > 0 ? core.ReferenceGaps.Average() : double.NaN,
+        };
     }
 
     private static RunConstants Constants(RunSettings run) => new(

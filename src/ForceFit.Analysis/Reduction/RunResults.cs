@@ -34,6 +34,12 @@ public sealed record PositionFit(int Index, double Piezo, double Time, double Se
 /// <param name="SharedAcrossRuns">True when the same physical quantity affects every run of the night alike (s, R, A).</param>
 public sealed record SystematicSource(string Name, double[][] Contributions, double[] GapOffset, double[] SpringConstant, double[] Sensitivity, bool SharedAcrossRuns)
 {
+    /// <summary>
+    /// How far the input was moved either way to find the rows: its stated standard uncertainty in its SI unit (for the
+    /// reference-gap Casimir force, the relative change of that force); NaN for the calibration's own source.
+    /// </summary>
+    public double Step { get; init; } = double.NaN;
+
     /// <summary>The source's standard uncertainty at each point: the rows added in quadrature.</summary>
     public double[] PointSigma() => Enumerable.Range(0, Contributions[0].Length)
         .Select(i => Math.Sqrt(Contributions.Sum(r => r[i] * r[i]))).ToArray();
@@ -89,6 +95,12 @@ public sealed record RunResult(string Run, RunCalibration Calibration, IReadOnly
     double[] PointTime, double[,] RandomCovariance, IReadOnlyList<SystematicSource> Systematics, FreeSignalTrack FreeSignal,
     double[,] ResidualPotentialCovariance, double[] AmplitudeCorrection, IReadOnlyList<string> Warnings)
 {
+    /// <summary>
+    /// Mean gap of the free-signal references (m), undeflected (z0 + d s p), where their Casimir force is taken from the
+    /// settings' theories; NaN when there are no references (a given f0 or S_free).
+    /// </summary>
+    public double ReferenceGap { get; init; } = double.NaN;
+
     /// <summary>Random standard uncertainty of each point.</summary>
     public double[] RandomSigma => Enumerable.Range(0, Value.Length).Select(i => Math.Sqrt(RandomCovariance[i, i])).ToArray();
 
