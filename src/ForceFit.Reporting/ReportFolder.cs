@@ -60,6 +60,7 @@ public static class ReportFolder
             WriteRunPoints(Path.Combine(temporary, "tables", "run-points.csv"), reduction);
             WriteTheory(Path.Combine(temporary, "tables", "theory.csv"), reduction);
             WriteBudget(Path.Combine(temporary, "tables", "budget.csv"), reduction);
+            WriteCalibrationBudget(Path.Combine(temporary, "tables", "calibration-budget.csv"), reduction);
             File.WriteAllText(Path.Combine(temporary, "summary.json"), Summary(reduction));
             IReadOnlyList<InputFile> inputs = Inputs(reduction);
             File.WriteAllText(Path.Combine(temporary, "provenance.json"), Provenance(reduction, inputs, commandLine, now, toolVersion));
@@ -157,6 +158,16 @@ public static class ReportFolder
         foreach ((string source, double[] sigma) in c.Budget()) Add(source, sigma);
         Add("systematic total", c.SystematicSigma);
         Add("total", c.RandomSigma.Zip(c.SystematicSigma, (x, y) => Math.Sqrt(x * x + y * y)).ToArray());
+        CsvTable.Write(path, header, rows);
+    }
+
+    private static void WriteCalibrationBudget(string path, NightReduction r)
+    {
+        // Per run: what moves z0, k and m — the fit's own uncertainty, each systematic source's signed change for +1 sigma
+        // of its input (step: that sigma, SI), and the total; m empty in frequency mode.
+        string[] header = ["run", "source", "step", "gap_offset_m", "spring_constant_N_per_m", "deflection_sensitivity_m_per_unit"];
+        var rows = r.Runs.SelectMany(run => run.CalibrationBudget().Select(b => (IReadOnlyList<string>)
+            [run.Run, b.Source, N(b.Step), N(b.GapOffset), N(b.SpringConstant), r.Frequency ? "" : N(b.Sensitivity)]));
         CsvTable.Write(path, header, rows);
     }
 

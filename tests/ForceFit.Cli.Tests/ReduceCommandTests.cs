@@ -34,7 +34,7 @@ public sealed class ReduceCommandTests : TemporaryFolderTest
         var (exit, output, errors) = Run("reduce", night, "--out", report);
         Assert.That(exit, Is.EqualTo(ExitCodes.Success), errors);
         Assert.That(output, Does.Contain("ok: report written"));
-        foreach (string f in new[] { "summary.json", "provenance.json", "report.md", "report.html", "figures/result.svg", "figures/result.png", "tables/steps.csv", "tables/parabolas.csv", "tables/reduced.csv", "tables/budget.csv", "tables/theory.csv", "tables/run-points.csv" })
+        foreach (string f in new[] { "summary.json", "provenance.json", "report.md", "report.html", "figures/result.svg", "figures/result.png", "tables/steps.csv", "tables/parabolas.csv", "tables/reduced.csv", "tables/budget.csv", "tables/calibration-budget.csv", "tables/theory.csv", "tables/run-points.csv" })
             Assert.That(File.Exists(Path.Combine(report, f)), f);
         using JsonDocument summary = JsonDocument.Parse(File.ReadAllText(Path.Combine(report, "summary.json")));
         JsonElement run = summary.RootElement.GetProperty("runs")[0];

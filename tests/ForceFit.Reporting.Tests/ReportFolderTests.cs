@@ -103,6 +103,36 @@ public sealed class ReportFolderTests
         Assert.That(html, Does.Contain("SHA-256"));
     }
 
+    /// <summary>
+    /// tables/calibration-budget.csv: the steps are the run file's stated sigmas (scale 0.005, R 0.2 um, as the simulator
+    /// writes them), the totals are the quadrature sums of the lines and equal summary.json's sigmas, and raising R moves k
+    /// in proportion, d ln k / d ln R = 1: the sphere–plate electrostatic force is proportional to R for a ≪ R (PFA; the
+    /// exact series differs by O(a/R) ~ 1e-3 here), so the same curvatures need a k larger by sigma_R / R.
+    /// </summary>
+    [Test]
+    public void The_calibration_budget_lists_every_source_and_adds_up_to_the_quoted_sigmas()
+    {
+        string[] lines = File.ReadAllLines(Path.Combine(_report, "tables", "calibration-budget.csv"));
+        Assert.That(lines[0], Is.EqualTo("run,source,step,gap_offset_m,spring_constant_N_per_m,deflection_sensitivity_m_per_unit"));
+        var rows = lines.Skip(1).Select(l => l.Split(',')).ToDictionary(f => f[1], f => f);
+        double V(string source, int column) => double.Parse(rows[source][column], System.Globalization.CultureInfo.InvariantCulture);
+        Assert.That(rows.Keys, Is.SupersetOf(new[] { "statistical", "piezo scale", "radius", "amplitude", "reference-gap Casimir force", "total" }));
+        using var scope = Assert.EnterMultipleScope();
+        Assert.That(V("piezo scale", 2), Is.EqualTo(new Scenario().PiezoScaleSigma).Within(1e-12), "the scale is varied by its stated sigma");
+        Assert.That(V("radius", 2), Is.EqualTo(Scenario.RadiusSigma).Within(1e-15), "R is varied by its stated sigma");
+        var summary = System.Text.Json.Nodes.JsonNode.Parse(File.ReadAllText(Path.Combine(_report, "summary.json")))!["runs"]![0]!;
+        foreach ((int column, string key) in new[] { (3, "z0_m"), (4, "spring_constant_N_per_m") })
+        {
+            double sum = rows.Keys.Where(k => k != "total").Sum(k => V(k, column) * V(k, column));
+            Assert.That(Math.Sqrt(sum), Is.EqualTo(V("total", column)).Within(1e-6 * V("total", column)), key + ": total is the quadrature sum");
+            Assert.That(V("total", column), Is.EqualTo(summary[key]!["sigma"]!.GetValue<double>()).Within(1e-6 * V("total", column)), key + ": as in summary.json");
+        }
+        double k = summary["spring_constant_N_per_m"]!["value"]!.GetValue<double>();
+        double expected = k * Scenario.RadiusSigma / new Scenario().Radius;
+        TestContext.Out.WriteLine($"k change for +sigma_R: {V("radius", 4):E4} N/m against k sigma_R/R = {expected:E4} (ratio {V("radius", 4) / expected:F4})");
+        Assert.That(V("radius", 4) / expected, Is.EqualTo(1).Within(0.01), "d ln k / d ln R = 1");
+    }
+
     [TestCase("1. not a list", "1\\. not a list")]
     [TestCase("# not a heading", "\\# not a heading")]
     [TestCase("a|b *c* _d_ `e` <f>", "a\\|b \\*c\\* \\_d\\_ \\`e\\` \\<f\\>")]

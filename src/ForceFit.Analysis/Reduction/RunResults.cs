@@ -45,6 +45,14 @@ public sealed record SystematicSource(string Name, double[][] Contributions, dou
         .Select(i => Math.Sqrt(Contributions.Sum(r => r[i] * r[i]))).ToArray();
 }
 
+/// <summary>One line of a run's calibration budget (<see cref="RunResult.CalibrationBudget"/>).</summary>
+/// <param name="Source">"statistical", a systematic source's name, or "total".</param>
+/// <param name="Step">How far the source's input was moved (<see cref="SystematicSource.Step"/>); NaN for statistical and total.</param>
+/// <param name="GapOffset">Change of z0 (m); for statistical and total the standard uncertainty.</param>
+/// <param name="SpringConstant">Change of k (N/m), likewise.</param>
+/// <param name="Sensitivity">Change of m (m per signal unit), NaN in frequency mode.</param>
+public sealed record CalibrationShift(string Source, double Step, double GapOffset, double SpringConstant, double Sensitivity);
+
 /// <summary>The calibration of one run.</summary>
 /// <param name="GapOffset">z0 (m).</param>
 /// <param name="SpringConstant">k (N/m).</param>
@@ -100,6 +108,24 @@ public sealed record RunResult(string Run, RunCalibration Calibration, IReadOnly
     /// settings' theories; NaN when there are no references (a given f0 or S_free).
     /// </summary>
     public double ReferenceGap { get; init; } = double.NaN;
+
+    /// <summary>
+    /// What moves the calibration: the fit's own (statistical) uncertainty, each systematic source's signed change of
+    /// z0, k and m for +1 sigma of its input (rows in quadrature where a source has several), and the total.
+    /// </summary>
+    public IReadOnlyList<CalibrationShift> CalibrationBudget()
+    {
+        RunCalibration c = Calibration;
+        double Signed(double[] rows) => rows.Length == 1 ? rows[0] : Math.Sqrt(rows.Sum(v => v * v));
+        var list = new List<CalibrationShift>
+        {
+            new("statistical", double.NaN, c.GapOffset.StatisticalSigma, c.SpringConstant.StatisticalSigma, c.Sensitivity?.StatisticalSigma ?? double.NaN),
+        };
+        foreach (SystematicSource s in Systematics.Where(s => s.Name != "calibration"))
+            list.Add(new(s.Name, s.Step, Signed(s.GapOffset), Signed(s.SpringConstant), c.Sensitivity is null ? double.NaN : Signed(s.Sensitivity)));
+        list.Add(new("total", double.NaN, c.GapOffset.Sigma, c.SpringConstant.Sigma, c.Sensitivity?.Sigma ?? double.NaN));
+        return list;
+    }
 
     /// <summary>Random standard uncertainty of each point.</summary>
     public double[] RandomSigma => Enumerable.Range(0, Value.Length).Select(i => Math.Sqrt(RandomCovariance[i, i])).ToArray();

@@ -73,6 +73,16 @@ public static class ReportDocument
         int[] keep = Enumerable.Range(0, calibrationHeader.Length).Where(i => i != 3 || !r.Frequency).ToArray();
         b.Add(new Table(keep.Select(i => calibrationHeader[i]).ToArray(), calibrationRows.Select(row => (IReadOnlyList<string>)keep.Select(i => row[i]).ToArray()).ToArray()));
         b.Add(new Paragraph("z0 is quoted at the mean time of each run's steps; the gap drift and the drift of V0 with time are fitted with it. The piezo scale is held at its stated value and its uncertainty is carried as a systematic error shared by all runs."));
+        b.Add(new Paragraph("What moves each run's calibration: the fit's own uncertainty, the signed change of z0, k (and m) when each systematic input is raised by its stated sigma (the whole reduction redone), and their quadrature total (every line in tables/calibration-budget.csv)."));
+        string[] shiftHeader = ["run", "source", "varied by", "z0 (pm)", "k (%)", "m (%)"];
+        var shiftRows = r.Runs.SelectMany(run => run.CalibrationBudget().Select(x => new[]
+        {
+            run.Run, x.Source, StepText(x.Source, x.Step), Shift(x, x.GapOffset * 1e12, "0.0"),
+            Shift(x, x.SpringConstant / run.Calibration.SpringConstant.Value * 100, "0.000"),
+            run.Calibration.Sensitivity is { } m ? Shift(x, x.Sensitivity / m.Value * 100, "0.000") : "",
+        })).ToArray();
+        int[] shiftKeep = Enumerable.Range(0, shiftHeader.Length).Where(i => i != 5 || !r.Frequency).ToArray();
+        b.Add(new Table(shiftKeep.Select(i => shiftHeader[i]).ToArray(), shiftRows.Select(row => (IReadOnlyList<string>)shiftKeep.Select(i => row[i]).ToArray()).ToArray()));
 
         CombinedNight night = r.Combined;
         b.Add(new Heading(2, "The reduced night"));
@@ -133,6 +143,27 @@ public static class ReportDocument
         b.Add(new Paragraph("Files: tables/steps.csv, tables/parabolas.csv, tables/reduced.csv (the night), tables/run-points.csv (each run), tables/theory.csv, tables/budget.csv; numbers in summary.json; inputs and their SHA-256 in provenance.json; figures as SVG and PNG in figures/."));
         return b;
     }
+
+    // A source's signed change, or ± for the statistical and total standard uncertainties.
+    private static string Shift(CalibrationShift x, double value, string digits)
+    {
+        string magnitude = Math.Abs(value).ToString(digits, CultureInfo.InvariantCulture);
+        return double.IsNaN(x.Step) ? "±" + magnitude : (value < 0 ? "−" : "+") + magnitude;
+    }
+
+    // A systematic input's step in the unit it is stated in (SI inside; RunReducer names the sources).
+    private static string StepText(string source, double step) => double.IsNaN(step) ? "" : source switch
+    {
+        "piezo scale" => I($"±{step:G3}"),
+        "radius" => I($"±{step * 1e6:G3} µm"),
+        "amplitude" => I($"±{step * 1e9:G3} nm"),
+        "reference-gap Casimir force" => I($"±{step * 100:G3}%"),
+        "V0 at the reference gap" => I($"±{step * 1e3:G3} mV"),
+        "signal filter step" => I($"±{step * 1e3:G3} ms"),
+        "spring constant (given)" => I($"±{step:G3} N/m"),
+        "deflection sensitivity (given)" => I($"±{step * 1e9:G3} nm per unit"),
+        _ => I($"±{step:G3} (SI)"),
+    };
 
     // Up to n indices spread evenly over 0..count−1 (always the first and the last).
     private static int[] Representative(int count, int n) => count <= n
