@@ -51,8 +51,8 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
             // truth is est + d shift, against sqrt(sigma^2 − shift^2), d = (s_true − s_stated)/sigma_s. (2) The Casimir
             // force felt by the free-signal references (~1.8 um), taken from the settings' theories' mean ± half their
             // spread: the truth is always Drude, below the mean by about one of those sigmas in every night alike, so
-            // it cannot average out over seeds; its row is large in deflection ramps (z0 −79 pm, k +2.7e-3,
-            // m −2.4e-3 for seed 8100, against statistical 57 pm, 2.1e-3, 1.9e-3: the references' Casimir force differs
+            // it cannot average out over seeds; in deflection ramps its row is 0.14–0.2 of the sigmas left with the
+            // scale out (seed 8100: z0 −10 pm, k +5.2e-4, m −5.0e-4; the references' Casimir force differs
             // between the sweeps' ends by ~1e-14 N, a pattern in S_free(t) that the bias order turns into curvature),
             // and with it left in, 40 deflection nights gave pull means k +0.25, m −0.32, z0 −0.21 (signs of the row).
             // d = (F_truth(a_ref)/F_mean(a_ref) − 1)/step at the references' mean gap, the row's relative step.
