@@ -59,6 +59,15 @@ internal static class Pulls
             Assert.That(mean, Is.InRange(-0.3, 0.3), name + " pull mean");
         }
     }
+
+    /// <summary>Prints the rms and mean of a set of pulls and returns them (for quantities outside the rule).</summary>
+    public static (double Rms, double Mean) Print(string name, IEnumerable<double> values)
+    {
+        double[] v = values.ToArray();
+        double rms = Math.Sqrt(v.Average(x => x * x)), mean = v.Average();
+        TestContext.Out.WriteLine($"{name}: pull rms {rms:F3}, mean {mean:F3}");
+        return (rms, mean);
+    }
 }
 
 /// <summary>One simulated night reduced without the Monte Carlo comparison, with the calibration's pulls against truth.</summary>
@@ -139,6 +148,26 @@ internal sealed record SimulatedNight(NightTruth Truth, NightSettings Night, Nig
             if (Truth.Scenario.Mode == SimulatedMode.Deflection) gap = RestingGap(gap);
             double v0True = t.ResidualPotential + t.ResidualPotentialGapSlope * (gap - t.ReferenceGapForV0) + t.ResidualPotentialTimeSlope * nearest.Time;
             return (v0 - v0True) / v0Sigma;
+        }
+    }
+
+    /// <summary>(dV0/da − truth)/sigma of the first run's reported V0 line against separation.</summary>
+    public double ResidualPotentialSlopePull
+    {
+        get
+        {
+            var (_, _, slope, slopeSigma, _) = NightPipeline.ResidualPotential(Reduction.Runs[0]);
+            return (slope - Truth.Runs[0].Run.ResidualPotentialGapSlope) / slopeSigma;
+        }
+    }
+
+    /// <summary>(w − truth)/sigma of the first run's fitted drift of V0 in time (V/s).</summary>
+    public double ResidualPotentialDriftPull
+    {
+        get
+        {
+            Estimate w = Reduction.Runs[0].Calibration.ResidualPotentialDrift!;
+            return (w.Value - Truth.Runs[0].Run.ResidualPotentialTimeSlope) / w.Sigma;
         }
     }
 

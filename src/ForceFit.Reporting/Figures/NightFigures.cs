@@ -160,7 +160,7 @@ public static class NightFigures
             line.LineWidth = 1;
         }
         return FigureKit.Render(plot, "v0-separation", "V0 against separation",
-            "The vertex of each bias parabola with its statistical uncertainty, and each run's weighted straight line (its slope is in the calibration table).");
+            "The vertex of each bias parabola with its statistical uncertainty, and each run's straight line in separation with the fitted drift of V0 in time taken out (referred to the time of the nearest position, so points measured at other times sit off it by that drift; its slope is in the calibration table).");
     }
 
     private static Figure ResidualPotentialAgainstTime(NightReduction r) =>
