@@ -120,7 +120,8 @@ public static class NightPipeline
     /// out first, V0_j − w (t_j − t_nearest), and its uncertainty carried, sigma_w^2 (t_i − t_n)(t_j − t_n) added to the V0
     /// values' covariance (physics.md: V0 against gap and against time). Voltage steps visit the gaps in time order, so
     /// the plain line's slope also held the time drift: 1 mV/h read as −0.11 mV/um, 35 of its sigmas in simulated
-    /// nights (a V0_j is quoted at its position's mean time, so its correlation with w is left out).
+    /// nights (a V0_j is quoted at its position's mean time, so its correlation with w is left out). The slope's sigma
+    /// includes the piezo scale's relative uncertainty.
     /// </summary>
     public static (double V0, double V0Sigma, double Slope, double SlopeSigma, double Separation) ResidualPotential(RunResult run)
     {
@@ -140,6 +141,12 @@ public static class NightPipeline
                     covariance[i, j] += drift.Sigma * drift.Sigma * (positions[i].Time - tn) * (positions[j].Time - tn);
         }
         (FitResult line, double nearest) = RunReducer.ResidualPotentialLine(positions, covariance);
-        return (line.Parameters[0], Math.Sqrt(line.Covariance[0, 0]), line.Parameters[1], Math.Sqrt(line.Covariance[1, 1]), nearest);
+        // The separations scale with the piezo scale s (a = z0 + d s p), so the slope carries s's relative uncertainty too:
+        // in distance ramps 0.5% of 2 mV/um is about the slope's statistical sigma (pulls rms 1.35 over 40 frequency
+        // ramp nights without it).
+        double slope = line.Parameters[1];
+        double scaleRelative = run.Calibration.PiezoScale is { } s && s.Value != 0 ? s.Sigma / s.Value : 0;
+        double slopeSigma = Math.Sqrt(line.Covariance[1, 1] + slope * slope * scaleRelative * scaleRelative);
+        return (line.Parameters[0], Math.Sqrt(line.Covariance[0, 0]), slope, slopeSigma, nearest);
     }
 }

@@ -69,7 +69,8 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
             double kWithout = Without(c.SpringConstant.Value, t.SpringConstant, c.SpringConstant.Sigma, src => src.SpringConstant);
             double mWithout = frequency ? 0 : Without(c.Sensitivity!.Value, t.DeflectionSensitivity, c.Sensitivity.Sigma, src => src.Sensitivity);
             return (Z0: n.GapOffsetPull, K: n.SpringConstantPull, V0: n.ResidualPotentialPull, M: mPull, Chi2PerDof: c.ChiSquare / c.DegreesOfFreedom,
-                CurveP: n.CurvePValue, Lag: c.SignalLag?.Value ?? double.NaN, Scale: d, Reference: dReference, Z0Without: z0Without, KWithout: kWithout, MWithout: mWithout);
+                CurveP: n.CurvePValue, Lag: c.SignalLag?.Value ?? double.NaN, Scale: d, Reference: dReference, Z0Without: z0Without, KWithout: kWithout, MWithout: mWithout,
+                Slope: n.ResidualPotentialSlopePull);
         });
         using var scope = Assert.EnterMultipleScope();
         // The plain pulls of z0, k and m are dominated by the drawn piezo scale (its systematic is 90% of their sigma),
@@ -88,6 +89,17 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
         if (!frequency) sets.Add(("m (scale and reference Casimir taken out)", results.Select(p => p.MWithout)));
         sets.Add(("V0", results.Select(p => p.V0)));
         Pulls.AssertUnitRms(sets.ToArray());
+        // The reported slope of V0 against separation: every sweep crosses all gaps, so gap and time are not tied as in
+        // voltage steps. Frequency mode is guarded with the step tests' bounds (rms 0.7–1.3, mean ±0.5; our choice,
+        // outside the rule): 1.08 / 0.03. Deflection mode is printed only: 1.45 / 0.39 over seeds 8100–8119, its
+        // sigma (statistical and piezo scale) leaves out what moves the resting separations (m, the reference
+        // correction); open (DEVELOPERS.md).
+        var slope = Pulls.Print("dV0/da", results.Select(p => p.Slope));
+        if (frequency)
+        {
+            Assert.That(slope.Rms, Is.InRange(0.7, 1.3), "dV0/da pull rms");
+            Assert.That(slope.Mean, Is.InRange(-0.5, 0.5), "dV0/da pull mean");
+        }
         double[] z0 = results.Select(p => p.Z0Without).ToArray();
         double z0Rms = Math.Sqrt(z0.Average(x => x * x));
         TestContext.Out.WriteLine($"z0 (scale and reference Casimir taken out): pull rms {z0Rms:F3}, mean {z0.Average():F3}");
