@@ -115,38 +115,14 @@ public static class NightPipeline
     }
 
     /// <summary>
-    /// V0 at the run's nearest position (at that position's time), and the slope of V0 against separation: the
-    /// generalised least-squares line through the positions' V0 with the calibration's fitted drift of V0 in time taken
-    /// out first, V0_j − w (t_j − t_nearest), and its uncertainty carried, sigma_w^2 (t_i − t_n)(t_j − t_n) added to the V0
-    /// values' covariance (physics.md: V0 against gap and against time). Voltage steps visit the gaps in time order, so
-    /// the plain line's slope also held the time drift: 1 mV/h read as −0.11 mV/um, 35 of its sigmas in simulated
-    /// nights (a V0_j is quoted at its position's mean time, so its correlation with w is left out). The slope's sigma
-    /// includes the piezo scale's relative uncertainty.
+    /// V0 at the run's nearest position (at that position's time), and the slope of V0 against separation with its
+    /// statistical and systematic uncertainty (<see cref="RunReducer.ResidualPotentialTrend"/>; every systematic source's
+    /// change of the slope, <see cref="SystematicSource.ResidualPotentialSlope"/>, added in quadrature).
     /// </summary>
     public static (double V0, double V0Sigma, double Slope, double SlopeSigma, double Separation) ResidualPotential(RunResult run)
     {
-        IReadOnlyList<PositionFit> positions = run.Positions;
-        int n = positions.Count;
-        double[,]? given = run.ResidualPotentialCovariance;
-        var covariance = new double[n, n];
-        for (int i = 0; i < n; i++)
-            for (int j = 0; j < n; j++)
-                covariance[i, j] = given is not null && given.GetLength(0) == n ? given[i, j] : i == j ? Math.Max(positions[i].ResidualPotentialSigma, 1e-15) * Math.Max(positions[i].ResidualPotentialSigma, 1e-15) : 0;
-        if (run.Calibration.ResidualPotentialDrift is { } drift && n > 0)
-        {
-            double tn = positions.MinBy(p => p.Separation)!.Time;
-            positions = positions.Select(p => p with { ResidualPotential = p.ResidualPotential - drift.Value * (p.Time - tn) }).ToArray();
-            for (int i = 0; i < n; i++)
-                for (int j = 0; j < n; j++)
-                    covariance[i, j] += drift.Sigma * drift.Sigma * (positions[i].Time - tn) * (positions[j].Time - tn);
-        }
-        (FitResult line, double nearest) = RunReducer.ResidualPotentialLine(positions, covariance);
-        // The separations scale with the piezo scale s (a = z0 + d s p), so the slope carries s's relative uncertainty too:
-        // in distance ramps 0.5% of 2 mV/um is about the slope's statistical sigma (pulls rms 1.35 over 40 frequency
-        // ramp nights without it).
-        double slope = line.Parameters[1];
-        double scaleRelative = run.Calibration.PiezoScale is { } s && s.Value != 0 ? s.Sigma / s.Value : 0;
-        double slopeSigma = Math.Sqrt(line.Covariance[1, 1] + slope * slope * scaleRelative * scaleRelative);
-        return (line.Parameters[0], Math.Sqrt(line.Covariance[0, 0]), slope, slopeSigma, nearest);
+        (FitResult line, double nearest) = RunReducer.ResidualPotentialTrend(run.Positions, run.ResidualPotentialCovariance, run.Calibration.ResidualPotentialDrift);
+        double systematic = run.Systematics.Sum(src => src.ResidualPotentialSlope * src.ResidualPotentialSlope);
+        return (line.Parameters[0], Math.Sqrt(line.Covariance[0, 0]), line.Parameters[1], Math.Sqrt(line.Covariance[1, 1] + systematic), nearest);
     }
 }

@@ -138,8 +138,10 @@ public static class RunReducer
             row[i] = (Moved(up) - Moved(down)) / 2;
         }
         double Half(Func<Core, double> f) => (f(up) - f(down)) / 2;
+        // The reported V0 slope moves too: the separations move with the constants (the piezo scale stretches them).
+        double Trend(Core c) => c.Positions.Length >= 2 ? ResidualPotentialTrend(c.Positions, c.ResidualPotentialCovariance, c.Calibration.ResidualPotentialDrift).Line.Parameters[1] : 0;
         return new SystematicSource(name, [row], [Half(c => c.Calibration.GapOffset.Value)], [Half(c => c.Calibration.SpringConstant.Value)],
-            [nominal.Calibration.Sensitivity is null ? 0 : Half(c => c.Calibration.Sensitivity!.Value)], shared);
+            [nominal.Calibration.Sensitivity is null ? 0 : Half(c => c.Calibration.Sensitivity!.Value)], shared) { ResidualPotentialSlope = Half(Trend) };
     }
 
     /// <summary>Everything computed for one set of constants.</summary>
@@ -531,6 +533,32 @@ public static class RunReducer
         double b0 = p2[0, 0] * t0 + p2[0, 1] * t1, b1 = p2[1, 0] * t0 + p2[1, 1] * t1;
         var r = Enumerable.Range(0, n).Select(i => v[i] - b0 - b1 * x[i]).ToArray();
         return (new FitResult([b0, b1], p2, Matrices.Bilinear(r, w, r), n - 2, 1, StopReason.ParametersConverged), nearest);
+    }
+
+    /// <summary>
+    /// The line of V0 against separation reported for a run: the positions' V0 with the calibration's fitted drift of V0
+    /// in time taken out first, V0_j − w (t_j − t_nearest), and its uncertainty carried, sigma_w^2 (t_i − t_n)(t_j − t_n)
+    /// added to the V0 values' covariance (physics.md: V0 against gap and against time); intercept at the nearest
+    /// position (at its time). Voltage steps visit the gaps in time order, so the plain line's slope also held the time
+    /// drift: 1 mV/h read as −0.11 mV/um, 35 of its sigmas in simulated nights. A V0_j is quoted at its position's mean
+    /// time, so its correlation with w is left out.
+    /// </summary>
+    public static (FitResult Line, double NearestSeparation) ResidualPotentialTrend(IReadOnlyList<PositionFit> positions, double[,]? covariance, Estimate? drift)
+    {
+        int n = positions.Count;
+        var total = new double[n, n];
+        for (int i = 0; i < n; i++)
+            for (int j = 0; j < n; j++)
+                total[i, j] = covariance is not null && covariance.GetLength(0) == n ? covariance[i, j] : i == j ? Square(Math.Max(positions[i].ResidualPotentialSigma, 1e-15)) : 0;
+        if (drift is not null && n > 0)
+        {
+            double tn = positions.MinBy(p => p.Separation)!.Time;
+            positions = positions.Select(p => p with { ResidualPotential = p.ResidualPotential - drift.Value * (p.Time - tn) }).ToArray();
+            for (int i = 0; i < n; i++)
+                for (int j = 0; j < n; j++)
+                    total[i, j] += drift.Sigma * drift.Sigma * (positions[i].Time - tn) * (positions[j].Time - tn);
+        }
+        return ResidualPotentialLine(positions, total);
     }
 
     // The slope of V0 against the actual gap that the model carries within a position: the positions' V0 line with the

@@ -40,6 +40,9 @@ public sealed record SystematicSource(string Name, double[][] Contributions, dou
     /// </summary>
     public double Step { get; init; } = double.NaN;
 
+    /// <summary>Signed change of the run's reported slope of V0 against separation (V/m); 0 for the calibration's own source.</summary>
+    public double ResidualPotentialSlope { get; init; }
+
     /// <summary>The source's standard uncertainty at each point: the rows added in quadrature.</summary>
     public double[] PointSigma() => Enumerable.Range(0, Contributions[0].Length)
         .Select(i => Math.Sqrt(Contributions.Sum(r => r[i] * r[i]))).ToArray();

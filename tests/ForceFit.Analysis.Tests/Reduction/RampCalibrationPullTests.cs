@@ -90,16 +90,13 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
         sets.Add(("V0", results.Select(p => p.V0)));
         Pulls.AssertUnitRms(sets.ToArray());
         // The reported slope of V0 against separation: every sweep crosses all gaps, so gap and time are not tied as in
-        // voltage steps. Frequency mode is guarded with the step tests' bounds (rms 0.7–1.3, mean ±0.5; our choice,
-        // outside the rule): 1.08 / 0.03. Deflection mode is printed only: 1.45 / 0.39 over seeds 8100–8119, its
-        // sigma (statistical and piezo scale) leaves out what moves the resting separations (m, the reference
-        // correction); open (DEVELOPERS.md).
+        // voltage steps, and its sigma carries every systematic source's change of it (the separations move with s, m
+        // and the reference correction): frequency 0.90 / 0.04, deflection 1.14 / 0.29 (with the piezo scale's part
+        // only, 1.35 / 0.03 and 1.45 / 0.39). Guarded with the step tests' bounds (rms 0.7–1.3, mean ±0.5; our choice,
+        // outside the rule).
         var slope = Pulls.Print("dV0/da", results.Select(p => p.Slope));
-        if (frequency)
-        {
-            Assert.That(slope.Rms, Is.InRange(0.7, 1.3), "dV0/da pull rms");
-            Assert.That(slope.Mean, Is.InRange(-0.5, 0.5), "dV0/da pull mean");
-        }
+        Assert.That(slope.Rms, Is.InRange(0.7, 1.3), "dV0/da pull rms");
+        Assert.That(slope.Mean, Is.InRange(-0.5, 0.5), "dV0/da pull mean");
         double[] z0 = results.Select(p => p.Z0Without).ToArray();
         double z0Rms = Math.Sqrt(z0.Average(x => x * x));
         TestContext.Out.WriteLine($"z0 (scale and reference Casimir taken out): pull rms {z0Rms:F3}, mean {z0.Average():F3}");
