@@ -30,14 +30,20 @@ internal static class TruthCurves
         };
     }
 
+    /// <summary>The true curve: the truth theory with the night's true inputs, force gradient (frequency) or force at a.</summary>
+    public static double[] TrueCurve(TheoryInputs stated, NightTruth truth, double[] a, bool frequency)
+    {
+        int theory = stated.Theories.ToList().FindIndex(t => t.Name == truth.Scenario.TruthTheory);
+        return TheoryComparison.Predict(WithTruth(stated, truth.Inputs), a, frequency)[theory];
+    }
+
     /// <summary>
     /// The p-value of (result − true curve) with the result's own covariance (random and experimental systematic):
     /// the true curve is the truth theory with the night's true inputs at the reported separations.
     /// </summary>
     public static double PValueAgainstTruth(CombinedNight c, TheoryInputs stated, NightTruth truth)
     {
-        int theory = stated.Theories.ToList().FindIndex(t => t.Name == truth.Scenario.TruthTheory);
-        double[] curve = TheoryComparison.Predict(WithTruth(stated, truth.Inputs), c.Separation, c.Frequency)[theory];
+        double[] curve = TrueCurve(stated, truth, c.Separation, c.Frequency);
         double[] r = c.Value.Zip(curve, (v, f) => v - f).ToArray();
         double[,] inverse = Matrices.InverseSymmetric(Matrices.Add(c.RandomCovariance, c.SystematicCovariance));
         return Statistics.ChiSquareSurvival(Matrices.Bilinear(r, inverse, r), r.Length);
@@ -123,12 +129,9 @@ internal sealed record SimulatedNight(NightTruth Truth, NightSettings Night, Nig
     /// </summary>
     public double RestingGap(double gap)
     {
-        var stated = Night.Runs[0].Theory;
-        int theory = stated.Theories.ToList().FindIndex(th => th.Name == Truth.Scenario.TruthTheory);
-        var truthInputs = TruthCurves.WithTruth(stated, Truth.Inputs);
         double a = gap;
         for (int it = 0; it < 5; it++)
-            a = gap - Math.Abs(TheoryComparison.Predict(truthInputs, [a], false)[theory][0]) / Truth.Runs[0].Run.SpringConstant;
+            a = gap - Math.Abs(TruthCurves.TrueCurve(Night.Runs[0].Theory, Truth, [a], false)[0]) / Truth.Runs[0].Run.SpringConstant;
         return a;
     }
 

@@ -566,12 +566,12 @@ public static class RunReducer
     // line's slope also holds the time drift (1 mV/h over ~80 s per 200 nm reads as −0.11 mV/um), and within a
     // position that wrong slope times the sphere's bias-driven deflection (up to ~20 nm at the far, high-bias
     // positions) shifted the deflection-mode vertices by ~2 uV (measured noise-free; 0.04 uV with the drift taken out).
+    // The drift is taken out as in the reported line (ResidualPotentialTrend) but with its sigma left out of the weights.
     private static double ResidualPotentialSlope(PositionFit[] positions, double[,] covariance, RunCalibration calibration)
     {
         if (positions.Length < 3) return 0;
-        double drift = calibration.ResidualPotentialDrift?.Value ?? 0, t0 = positions.Average(p => p.Time);
-        var detrended = positions.Select(p => p with { ResidualPotential = p.ResidualPotential - drift * (p.Time - t0) }).ToArray();
-        return ResidualPotentialLine(detrended, covariance).Line.Parameters[1] is var b && double.IsFinite(b) ? b : 0;
+        Estimate? drift = calibration.ResidualPotentialDrift is { } w ? w with { Sigma = 0 } : null;
+        return ResidualPotentialTrend(positions, covariance, drift).Line.Parameters[1] is var b && double.IsFinite(b) ? b : 0;
     }
 
     // V0 against gap along the positions' straight line, fitted once (for the reference correction only); with fewer

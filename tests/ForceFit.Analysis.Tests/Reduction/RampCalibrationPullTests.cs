@@ -23,8 +23,7 @@ public sealed class RampCalibrationPullTests : TemporaryFolderTest
     private static double TruthReferenceScale(SimulatedNight n, double gap, bool frequency)
     {
         var stated = n.Night.Runs[0].Theory;
-        int theory = stated.Theories.ToList().FindIndex(th => th.Name == n.Truth.Scenario.TruthTheory);
-        double truth = TheoryComparison.Predict(TruthCurves.WithTruth(stated, n.Truth.Inputs), [gap], frequency)[theory][0];
+        double truth = TruthCurves.TrueCurve(stated, n.Truth, [gap], frequency)[0];
         double mean = TheoryComparison.Predict(stated, [gap], frequency).Average(v => v[0]);
         return truth / mean;
     }
